@@ -1,0 +1,3 @@
+export * from './errors.js';
+export * from './fluid.js';
+export * from './perfect-gas.js';
