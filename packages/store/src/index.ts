@@ -1,0 +1,3 @@
+export * from './database.js';
+export * from './embedded.js';
+export * from './migrate.js';
