@@ -1,0 +1,85 @@
+import { migrationLevel } from '@isentrope/store';
+import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
+import { z } from 'zod';
+import type { ApiDependencies } from '../app.js';
+
+const healthResponse = z.object({
+  status: z.enum(['ok', 'degraded']),
+  version: z.string(),
+  uptimeSeconds: z.number(),
+  database: z.object({
+    kind: z.enum(['external', 'embedded']),
+    url: z.string(),
+    reachable: z.boolean(),
+    migrationLevel: z.string().nullable(),
+    migrationsApplied: z.number().int(),
+    error: z.string().optional(),
+  }),
+});
+
+/** Liveness with the facts an integrator asks first: which database, at which migration level. */
+export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = async (app, { deps }) => {
+  app.get(
+    '/health',
+    {
+      schema: { tags: ['health'], summary: 'Service and database health', response: { 200: healthResponse } },
+    },
+    async () => {
+      const base = {
+        version: deps.version,
+        uptimeSeconds: Math.round((Date.now() - deps.startedAt) / 1000),
+      };
+      try {
+        const level = await migrationLevel(deps.pool);
+        return {
+          ...base,
+          status: 'ok' as const,
+          database: {
+            kind: deps.database.kind,
+            url: deps.database.displayUrl,
+            reachable: true,
+            migrationLevel: level.level ?? null,
+            migrationsApplied: level.count,
+          },
+        };
+      } catch (error) {
+        return {
+          ...base,
+          status: 'degraded' as const,
+          database: {
+            kind: deps.database.kind,
+            url: deps.database.displayUrl,
+            reachable: false,
+            migrationLevel: null,
+            migrationsApplied: 0,
+            error: error instanceof Error ? error.message : String(error),
+          },
+        };
+      }
+    },
+  );
+
+  app.get(
+    '/ready',
+    {
+      schema: {
+        tags: ['health'],
+        summary: 'Ready to serve: database reachable',
+        response: {
+          200: z.object({ ready: z.literal(true) }),
+          503: z.object({ ready: z.literal(false), reason: z.string() }),
+        },
+      },
+    },
+    async (_request, reply) => {
+      try {
+        await deps.pool.query('SELECT 1');
+        return { ready: true as const };
+      } catch (error) {
+        return reply
+          .code(503)
+          .send({ ready: false as const, reason: error instanceof Error ? error.message : String(error) });
+      }
+    },
+  );
+};

@@ -1,0 +1,56 @@
+import { readFile } from 'node:fs/promises';
+import { buildApp } from '@isentrope/api';
+import { migrate, openDatabase } from '@isentrope/store';
+import type { Logger } from 'pino';
+import type { Config } from '../config.js';
+import { Lifecycle } from '../lifecycle.js';
+
+async function packageVersion(): Promise<string> {
+  const text = await readFile(new URL('../../../../package.json', import.meta.url), 'utf8');
+  const parsed: unknown = JSON.parse(text);
+  return typeof parsed === 'object' && parsed !== null && 'version' in parsed
+    ? String(parsed.version)
+    : 'unknown';
+}
+
+/** `isentrope start`: database, migrations, API (and, as they exist, ingest and jobs) in one process. */
+export async function startCommand(config: Config, logger: Logger): Promise<Lifecycle> {
+  const startedAt = Date.now();
+  const lifecycle = new Lifecycle(logger);
+  lifecycle.handleSignals();
+  const dbLog = logger.child({ module: 'database' });
+  const db = await openDatabase({
+    url: config.databaseUrl,
+    dataDir: config.dataDir,
+    embeddedPort: config.embeddedPostgresPort,
+    onEmbeddedLog: (line) => dbLog.debug(line.trim()),
+  });
+  lifecycle.add('database', () => db.close());
+  dbLog.info({ kind: db.kind, url: db.displayUrl }, `using ${db.kind} PostgreSQL`);
+
+  try {
+    const report = await migrate(db.url, { logger: { info: (message) => dbLog.info(message) } });
+    dbLog.info({ applied: report.applied.length }, 'migrations up to date');
+  } catch (error) {
+    await lifecycle.shutdown('migration failed');
+    throw error;
+  }
+
+  const app = await buildApp({
+    pool: db.pool,
+    database: { kind: db.kind, displayUrl: db.displayUrl },
+    logger,
+    version: await packageVersion(),
+    startedAt,
+  });
+  lifecycle.add('http', () => app.close());
+  await app.listen({ host: config.host, port: config.port });
+  const address = app.server.address();
+  const port = typeof address === 'object' && address !== null ? address.port : config.port;
+  const shownHost = config.host === '0.0.0.0' ? 'localhost' : config.host;
+  logger.info(
+    { url: `http://${shownHost}:${port}/` },
+    `Isentrope is running: open http://${shownHost}:${port}/`,
+  );
+  return lifecycle;
+}

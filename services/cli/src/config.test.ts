@@ -1,0 +1,44 @@
+import { describe, expect, it } from 'vitest';
+import { ConfigError, loadConfig } from './config.js';
+
+describe('loadConfig', () => {
+  it('gives working defaults for an empty environment (embedded database)', () => {
+    const config = loadConfig({});
+    expect(config.databaseUrl).toBeUndefined();
+    expect(config.port).toBe(8080);
+    expect(config.host).toBe('127.0.0.1');
+    expect(config.logFormat).toBe('json');
+    expect(Object.isFrozen(config)).toBe(true);
+  });
+
+  it('reads DATABASE_URL, PORT and HOST', () => {
+    const config = loadConfig({ DATABASE_URL: 'postgres://u@db:5432/plant', PORT: '9000', HOST: '0.0.0.0' });
+    expect(config.databaseUrl).toBe('postgres://u@db:5432/plant');
+    expect(config.port).toBe(9000);
+    expect(config.host).toBe('0.0.0.0');
+  });
+
+  it('refuses bad values, naming every variable, the value given and what is allowed', () => {
+    let error: unknown;
+    try {
+      loadConfig({ PORT: 'eighty', DATABASE_URL: 'mysql://x', LOG_LEVEL: 'loud' });
+    } catch (caught) {
+      error = caught;
+    }
+    expect(error).toBeInstanceOf(ConfigError);
+    const problems = (error as ConfigError).problems;
+    expect(problems.map((p) => p.variable).sort()).toEqual(['DATABASE_URL', 'LOG_LEVEL', 'PORT']);
+    const message = (error as ConfigError).message;
+    expect(message).toContain('PORT="eighty": must be a whole number');
+    expect(message).toContain('DATABASE_URL="mysql://x": must be a PostgreSQL connection string');
+    expect(message).toContain('LOG_LEVEL="loud": must be one of fatal, error');
+  });
+
+  it('refuses a port out of range', () => {
+    expect(() => loadConfig({ PORT: '70000' })).toThrow(/PORT="70000": must be between 0 and 65535/);
+  });
+
+  it('treats an empty variable as unset', () => {
+    expect(loadConfig({ DATABASE_URL: '' }).databaseUrl).toBeUndefined();
+  });
+});

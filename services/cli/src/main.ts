@@ -1,0 +1,57 @@
+import { stderr } from 'node:process';
+import { ConfigError, loadConfig } from './config.js';
+import { createLogger } from './logger.js';
+
+const USAGE = `Usage: isentrope <command>
+
+Commands:
+  start            run database, migrations, API, ingest and jobs in one process
+  migrate          apply pending database migrations and print the level reached
+
+Environment: DATABASE_URL (unset: embedded PostgreSQL under ISENTROPE_DATA_DIR), HOST, PORT,
+LOG_LEVEL, LOG_FORMAT (json|pretty). See README.md.
+`;
+
+async function main(argv: readonly string[]): Promise<number> {
+  const [command, ...rest] = argv;
+  void rest;
+  if (command === undefined || command === 'help' || command === '--help' || command === '-h') {
+    stderr.write(USAGE);
+    return command === undefined ? 2 : 0;
+  }
+  let config: ReturnType<typeof loadConfig>;
+  try {
+    config = loadConfig(process.env, { stdoutIsTty: process.stdout.isTTY === true });
+  } catch (error) {
+    if (error instanceof ConfigError) {
+      stderr.write(`isentrope: ${error.message}\n`);
+      return 2;
+    }
+    throw error;
+  }
+  const logger = createLogger(config);
+  try {
+    switch (command) {
+      case 'start': {
+        const { startCommand } = await import('./commands/start.js');
+        await startCommand(config, logger);
+        return -1; // keeps running until a signal
+      }
+      case 'migrate': {
+        const { migrateCommand } = await import('./commands/migrate.js');
+        await migrateCommand(config, logger);
+        return 0;
+      }
+      default:
+        stderr.write(`isentrope: unknown command "${command}"\n\n${USAGE}`);
+        return 2;
+    }
+  } catch (error) {
+    logger.fatal({ err: error }, error instanceof Error ? error.message : String(error));
+    logger.flush();
+    return 1;
+  }
+}
+
+const code = await main(process.argv.slice(2));
+if (code >= 0) process.exitCode = code;
