@@ -1,0 +1,89 @@
+import { BadInputError } from '../errors.js';
+import type { FluidState } from '../fluid.js';
+import { INSTRUMENT_FAULT_FLAGS, type MachineFlag, type MachineInput } from './types.js';
+
+/** Default wet margin [K]: common practice, no source. */
+export const DEFAULT_WET_MARGIN = 2;
+/** Default entropy tolerance [J/(kg K)]: the order of IF97 forward/backward consistency. */
+export const DEFAULT_ENTROPY_TOLERANCE = 0.01;
+/** Below this pressure ratio the efficiency from temperatures is ill-conditioned (common practice, no source). */
+export const LOW_HEAD_RATIO = 1.001;
+
+function finite(field: string, value: number): void {
+  if (!Number.isFinite(value)) throw new BadInputError(field, `must be a finite number, got ${value}`);
+}
+
+function positive(field: string, value: number): void {
+  finite(field, value);
+  if (!(value > 0)) throw new BadInputError(field, `must be > 0, got ${value}`);
+}
+
+/** Rejects non-numbers and impossible values, with the field named. */
+export function checkInput(input: MachineInput): void {
+  positive('inlet.p', input.inlet.p);
+  positive('inlet.T', input.inlet.T);
+  positive('outlet.p', input.outlet.p);
+  positive('outlet.T', input.outlet.T);
+  for (const key of ['massFlow', 'volumeFlow', 'shaftPower', 'electricalPower'] as const) {
+    const value = input[key];
+    if (value === undefined) continue;
+    finite(key, value);
+    if (value < 0) throw new BadInputError(key, `must be >= 0, got ${value}`);
+  }
+  if (input.driverEfficiency !== undefined) {
+    positive('driverEfficiency', input.driverEfficiency);
+    if (input.driverEfficiency > 1) {
+      throw new BadInputError('driverEfficiency', `is a fraction in (0, 1], got ${input.driverEfficiency}`);
+    }
+  }
+  if (input.wetMargin !== undefined) {
+    finite('wetMargin', input.wetMargin);
+    if (input.wetMargin < 0) throw new BadInputError('wetMargin', `must be >= 0 K, got ${input.wetMargin}`);
+  }
+  if (input.entropyTolerance !== undefined) {
+    finite('entropyTolerance', input.entropyTolerance);
+    if (input.entropyTolerance < 0) {
+      throw new BadInputError('entropyTolerance', `must be >= 0, got ${input.entropyTolerance}`);
+    }
+  }
+}
+
+/** Mass flow [kg/s] from massFlow, or from volumeFlow [m3/s] and the inlet specific volume [m3/kg]. */
+export function resolveMassFlow(input: MachineInput, inlet: FluidState): number | undefined {
+  if (input.massFlow !== undefined) return input.massFlow;
+  if (input.volumeFlow !== undefined) return input.volumeFlow / inlet.v;
+  return undefined;
+}
+
+/** Shaft power [W] from shaftPower, or from electricalPower and driverEfficiency. */
+export function resolveShaftPower(input: MachineInput): number | undefined {
+  if (input.shaftPower !== undefined) return input.shaftPower;
+  if (input.electricalPower === undefined) return undefined;
+  const eta = input.driverEfficiency;
+  if (eta === undefined) {
+    // Never assume a driver efficiency: the caller must say it (1 for a direct measurement).
+    throw new BadInputError(
+      'driverEfficiency',
+      'is required when electricalPower is given without shaftPower',
+    );
+  }
+  return input.kind === 'turbine' ? input.electricalPower / eta : input.electricalPower * eta;
+}
+
+/** Second-law and efficiency checks shared by every machine. */
+export function secondLawFlags(
+  flags: MachineFlag[],
+  entropyGeneration: number | undefined,
+  efficiency: number | undefined,
+  tolerance: number,
+): void {
+  if (entropyGeneration !== undefined && entropyGeneration < -tolerance) flags.push('second-law-violation');
+  // 1e-9 absorbs rounding at an exact efficiency of one (a perfect-gas check).
+  if (efficiency !== undefined && efficiency > 1 + 1e-9) flags.push('efficiency-above-one');
+}
+
+export function isValid(flags: readonly MachineFlag[]): boolean {
+  return !flags.some(
+    (f) => INSTRUMENT_FAULT_FLAGS.has(f) || f === 'outlet-undetermined' || f === 'inlet-undetermined',
+  );
+}
