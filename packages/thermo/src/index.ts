@@ -1,3 +1,4 @@
+export * from './chart/index.js';
 export * from './errors.js';
 export * from './fluid.js';
 export * from './liquid.js';
