@@ -6,3 +6,4 @@ export * from './machines/index.js';
 export * from './perfect-gas.js';
 export * from './uncertainty/index.js';
 export * from './units/index.js';
+export * from './gas/index.js';
