@@ -13,6 +13,9 @@
  * lambda2 = 0.1, lambda3 = 0.1, R_crit about 2. The filters need a warm-up (about 1/lambda2
  * points); those points are reported as not steady. The statistic assumes uncorrelated noise:
  * a strongly autocorrelated signal reads as transient more often.
+ * At the very sample of a step both filtered variances jump alike and R stays near 2 - lambda1;
+ * R rises one sample later. So each transient run is widened by `padPoints` samples on both sides
+ * (default 2; the job runs on past data, so looking one or two samples ahead costs nothing).
  *
  * Optional second test (common practice, no source): over a trailing window, the least-squares
  * slope times the window duration must stay within `maxChange` and the residual standard
@@ -31,6 +34,8 @@ export interface CaoRhinehartOptions {
   readonly rCrit?: number;
   /** Points after the start (and after each gap) treated as warm-up; default 20. */
   readonly warmup?: number;
+  /** Samples added on each side of a transient run (see module comment); default 2. */
+  readonly padPoints?: number;
 }
 
 export interface SlopeSpreadOptions {
@@ -163,6 +168,19 @@ export function slopeSpreadSteady(
   return out;
 }
 
+/** Widen each transient run (R above critical, not warm-up or gap) by `pad` samples both ways. */
+function padTransients(steady: Uint8Array, r: Float64Array, pad: number): void {
+  if (!(Number.isInteger(pad) && pad >= 0)) throw new MonitorBadInputError('padPoints', pad, 'integer >= 0');
+  if (pad === 0) return;
+  const n = steady.length;
+  const transient = new Uint8Array(n);
+  for (let i = 0; i < n; i++) if (steady[i] === 0 && Number.isFinite(r[i] as number)) transient[i] = 1;
+  for (let i = 0; i < n; i++) {
+    if (transient[i] === 0) continue;
+    for (let j = Math.max(0, i - pad); j <= Math.min(n - 1, i + pad); j++) steady[j] = 0;
+  }
+}
+
 /**
  * Steady-state per key tag and for the machine. `t` is needed only for the slope-and-spread test;
  * `valid` (1 = usable, from validation) removes invalid points from the machine's steady set.
@@ -182,6 +200,7 @@ export function detectSteadyState(
     const r = caoRhinehartR(tag.value, tag.cao);
     const steady = new Uint8Array(n);
     for (let i = 0; i < n; i++) steady[i] = (r[i] as number) <= rCrit ? 1 : 0; // NaN compares false
+    padTransients(steady, r, tag.cao?.padPoints ?? 2);
     if (tag.slopeSpread !== undefined) {
       if (options.t === undefined)
         throw new MonitorBadInputError('t', undefined, 'slope-and-spread test needs times');
