@@ -7,3 +7,4 @@ export * from './perfect-gas.js';
 export * from './uncertainty/index.js';
 export * from './units/index.js';
 export * from './gas/index.js';
+export * from './steam/index.js';
