@@ -53,14 +53,15 @@ export interface SyntheticMachine {
   readonly efficiency: Float64Array;
   /** True efficiency [-]. */
   readonly efficiencyTrue: Float64Array;
-  /** 1 where the true load is ramping (a transient). */
-  readonly ramping: Uint8Array;
+  /** Size of the load change |Delta L| [-] of the ramp a point lies on; 0 on a plateau. */
+  readonly ramping: Float32Array;
 }
 
 /**
  * Load plateaus of 2 to 8 hours at levels between 0.5 and 1.0, joined by 30-minute linear ramps.
- * During a ramp the "measured" efficiency carries an extra dynamic error of +0.03 (heat soak),
- * which is why transients must be left out of efficiency statistics.
+ * During a ramp the "measured" efficiency carries an extra dynamic error of 0.06 |Delta L|
+ * (heat soak; +0.03 for a half-range ramp), which is why transients must be left out of
+ * efficiency statistics.
  */
 export function syntheticMachine(o: SyntheticMachineOptions): SyntheticMachine {
   const step = o.stepMs ?? 60_000;
@@ -72,7 +73,7 @@ export function syntheticMachine(o: SyntheticMachineOptions): SyntheticMachine {
   const loadTrue = new Float64Array(n);
   const efficiency = new Float64Array(n);
   const efficiencyTrue = new Float64Array(n);
-  const ramping = new Uint8Array(n);
+  const ramping = new Float32Array(n);
   const rampPts = Math.round(1_800_000 / step);
   let level = 0.75;
   let i = 0;
@@ -82,7 +83,7 @@ export function syntheticMachine(o: SyntheticMachineOptions): SyntheticMachine {
     const next = 0.5 + 0.5 * rnd();
     for (let k = 1; k <= rampPts && i < n; k++, i++) {
       loadTrue[i] = level + ((next - level) * k) / rampPts;
-      ramping[i] = 1;
+      ramping[i] = Math.abs(next - level);
     }
     level = next;
   }
@@ -93,7 +94,7 @@ export function syntheticMachine(o: SyntheticMachineOptions): SyntheticMachine {
     load[j] = L + o.loadNoise * nrm();
     const eta = c0 + c1 * L + c2 * L * L + o.lossPerMs * j * step;
     efficiencyTrue[j] = eta;
-    efficiency[j] = eta + o.bias + o.noise * nrm() + (ramping[j] === 1 ? 0.03 : 0);
+    efficiency[j] = eta + o.bias + o.noise * nrm() + 0.06 * (ramping[j] as number);
   }
   return { t, load, loadTrue, efficiency, efficiencyTrue, ramping };
 }

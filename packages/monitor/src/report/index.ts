@@ -1,0 +1,2 @@
+export * from './monthly.js';
+export * from './render.js';
