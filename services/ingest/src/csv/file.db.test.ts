@@ -1,0 +1,234 @@
+import { cp, mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
+import { loadTagLookup } from '../pg-sink.js';
+import { seedTags } from '../testing/seed.js';
+import type { TagLookup } from '../types.js';
+import { ingestCsvFile } from './file.js';
+import type { CsvFormatInput } from './format.js';
+
+const CORPUS = join(import.meta.dirname, '../../test-data/bad-csv');
+
+let db: TestDatabase;
+let dir: string;
+let tags: TagLookup;
+let ids: Map<string, number>;
+
+beforeAll(async () => {
+  db = await createTestDatabase();
+  ids = await seedTags(db.pool);
+  tags = await loadTagLookup(db.pool, 'demo');
+  dir = await mkdtemp(join(tmpdir(), 'ingest-csv-'));
+  await cp(CORPUS, dir, { recursive: true });
+});
+
+afterAll(async () => {
+  await db?.drop();
+  if (dir !== undefined) await rm(dir, { recursive: true, force: true });
+});
+
+async function ingest(name: string, format: CsvFormatInput = {}) {
+  return ingestCsvFile(join(dir, name), { pool: db.pool, source: 'drop', tags, format });
+}
+
+async function quarantineOf(fileId: number) {
+  const r = await db.pool.query<{
+    line: number | null;
+    column_name: string | null;
+    reason: string;
+    raw: string | null;
+  }>('SELECT line, column_name, reason, raw FROM quarantine WHERE file_id = $1 ORDER BY id', [fileId]);
+  return r.rows;
+}
+
+async function samplesOf(tag: string) {
+  const r = await db.pool.query<{ time: Date; value: number; quality: number }>(
+    'SELECT time, value, quality FROM samples WHERE tag_id = $1 ORDER BY time',
+    [ids.get(tag)],
+  );
+  return r.rows;
+}
+
+async function clear() {
+  await db.pool.query('DELETE FROM samples');
+}
+
+// Expected values below are read off the hand-written corpus files (common practice, no source).
+describe('CSV corpus of bad files: no crash, every bad row named', () => {
+  it('broken quoting: good rows stored, the two broken rows quarantined by line', async () => {
+    await clear();
+    const r = await ingest('broken-quoting.csv');
+    expect(r.status).toBe('done');
+    if (r.status !== 'done') return;
+    expect(r.summary.samples).toBe(4);
+    const q = await quarantineOf(r.fileId);
+    expect(q.map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [3, 'csv-syntax'],
+      [4, 'csv-syntax'],
+    ]);
+    expect(q[0]!.raw).toBe('2026-01-10 10:01:00,"42.2,510.6');
+    expect(r.movedTo).toBe(join(dir, 'processed', 'broken-quoting.csv'));
+  });
+
+  it('a row with Latin-1 bytes is quarantined; a Latin-1 header or UTF-16 rejects the file with a reason file', async () => {
+    const r = await ingest('latin1-row.csv');
+    expect(r.status).toBe('done');
+    if (r.status !== 'done') return;
+    expect(r.summary.samples).toBe(4);
+    expect((await quarantineOf(r.fileId)).map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [3, 'invalid-utf8'],
+    ]);
+    for (const name of ['latin1-header.csv', 'utf16.csv']) {
+      const bad = await ingest(name);
+      expect(bad.status, name).toBe('rejected');
+      const reason = await readFile(join(dir, 'rejected', `${name}.reason.txt`), 'utf8');
+      expect(reason).toContain('UTF-8');
+    }
+    const rec = await db.pool.query('SELECT status, error FROM ingested_files WHERE path = $1', [
+      join(dir, 'utf16.csv'),
+    ]);
+    expect(rec.rows[0]).toMatchObject({ status: 'failed' });
+  });
+
+  it('NaN, Infinity, #N/A and overflow are quarantined per cell; empty cells are no sample and no error', async () => {
+    await clear();
+    const r = await ingest('nan-infinity.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    const q = await quarantineOf(r.fileId);
+    expect(q.map((e) => [e.line, e.column_name, e.reason.split(':')[0]])).toEqual([
+      [2, 'ST1.PI-100', 'non-finite-value'],
+      [3, 'ST1.PI-100', 'non-finite-value'],
+      [3, 'ST1.TI-100', 'non-finite-value'],
+      [4, 'ST1.PI-100', 'non-finite-value'],
+      [4, 'ST1.TI-100', 'non-finite-value'],
+      [6, 'ST1.TI-100', 'bad-value'],
+    ]);
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([42.4]);
+    expect((await samplesOf('ST1.TI-100')).map((s) => s.value)).toEqual([510.5, 510.8]);
+  });
+
+  it('empty files are rejected; a header-only file is done with nothing stored', async () => {
+    expect((await ingest('empty.csv')).status).toBe('rejected');
+    // bom-only.csv: distinct bytes from empty.csv, so a distinct checksum.
+    expect((await ingest('bom-only.csv')).status).toBe('rejected');
+    const h = await ingest('header-only.csv');
+    expect(h.status === 'done' && h.summary.samples === 0).toBe(true);
+  });
+
+  it('a very long line is quarantined without holding it', async () => {
+    const path = join(dir, 'long-line.csv');
+    await writeFile(
+      path,
+      `time,ST1.PI-100\n2026-01-10 10:00:00,1\n2026-01-10 10:01:00,${'9'.repeat(3_000_000)}\n2026-01-10 10:02:00,3\n`,
+    );
+    const r = await ingest('long-line.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect(r.summary.samples).toBe(2);
+    const q = await quarantineOf(r.fileId);
+    expect(q).toHaveLength(1);
+    expect(q[0]).toMatchObject({ line: 3 });
+    // 20 bytes of time and comma + 3,000,000 digits (counted, common practice, no source).
+    expect(q[0]!.reason).toMatch(/^line-too-long: 3000020 bytes/);
+    expect(q[0]!.raw!.length).toBeLessThan(300);
+  });
+
+  it('an unknown tag is quarantined once per column (wide) and once per tag with its row count (long)', async () => {
+    const w = await ingest('unknown-tags-wide.csv');
+    if (w.status !== 'done') throw new Error(`status ${w.status}`);
+    expect(w.summary.samples).toBe(6);
+    expect(w.summary.skippedCells).toBe(3);
+    const qw = await quarantineOf(w.fileId);
+    expect(qw.map((e) => [e.line, e.column_name, e.reason.split(':')[0]])).toEqual([
+      [1, 'XX.UNKNOWN', 'unknown-tag'],
+    ]);
+
+    await clear();
+    const l = await ingest('unknown-tags-long.csv', { layout: 'long' });
+    if (l.status !== 'done') throw new Error(`status ${l.status}`);
+    const ql = await quarantineOf(l.fileId);
+    expect(ql.map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [7, 'bad-quality'],
+      [3, 'unknown-tag'],
+    ]);
+    expect(ql[1]!.reason).toContain('3 row(s) skipped');
+    // "good" -> 192 and "64" kept as received (OPC DA quality codes, see QUALITY).
+    expect((await samplesOf('ST1.PI-100')).map((s) => [s.value, s.quality])).toEqual([
+      [42.1, 192],
+      [42.2, 64],
+    ]);
+  });
+
+  it('a units row that disagrees with the tag quarantines that column once; decimal comma and ";"', async () => {
+    await clear();
+    const r = await ingest('bad-units.csv', { delimiter: ';', decimalComma: true, unitsRow: true });
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    const q = await quarantineOf(r.fileId);
+    expect(q.map((e) => [e.line, e.column_name, e.reason.split(':')[0]])).toEqual([
+      [2, 'ST1.TI-100', 'unit-mismatch'],
+      [4, 'ST1.FI-100', 'bad-value'],
+    ]);
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([42.1, 42.2]);
+    expect((await samplesOf('ST1.FI-100')).map((s) => s.value)).toEqual([120]);
+    expect(await samplesOf('ST1.TI-100')).toEqual([]);
+  });
+
+  it('daylight saving in Europe/Berlin: the skipped hour quarantined, the repeated hour resolved by order', async () => {
+    await clear();
+    const r = await ingest('dst-berlin.csv', { timeZone: 'Europe/Berlin' });
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    const q = await quarantineOf(r.fileId);
+    expect(q.map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [3, 'time-in-dst-gap'],
+      [4, 'time-in-dst-gap'],
+    ]);
+    // EU rule (Directive 2000/84/EC): CET+1 / CEST+2, changes at 01:00 UTC on 29 March and 25 October 2026.
+    const got = (await samplesOf('ST1.PI-100')).map((s) => [s.value, s.time.toISOString()]);
+    expect(got).toEqual([
+      [1, '2026-03-29T00:30:00.000Z'],
+      [4, '2026-03-29T01:00:00.000Z'],
+      [5, '2026-10-24T23:30:00.000Z'],
+      [6, '2026-10-25T00:00:00.000Z'],
+      [7, '2026-10-25T00:30:00.000Z'],
+      [8, '2026-10-25T01:00:00.000Z'],
+      [9, '2026-10-25T01:30:00.000Z'],
+      [10, '2026-10-25T02:00:00.000Z'],
+    ]);
+  });
+
+  it('duplicated headers: a repeated tag column is quarantined once (wide); a long file with two value columns is rejected', async () => {
+    await clear();
+    const w = await ingest('duplicated-headers-wide.csv');
+    if (w.status !== 'done') throw new Error(`status ${w.status}`);
+    expect(
+      (await quarantineOf(w.fileId)).map((e) => [e.line, e.column_name, e.reason.split(':')[0]]),
+    ).toEqual([[1, 'ST1.PI-100', 'duplicate-column']]);
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([42.1, 42.2]);
+    const l = await ingest('duplicated-headers-long.csv', { layout: 'long' });
+    expect(l.status).toBe('rejected');
+  });
+
+  it('column count, unreadable time and a time in another format are quarantined by line', async () => {
+    await clear();
+    const r = await ingest('bad-rows.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect(r.summary.timeFormat).toBe('iso');
+    expect((await quarantineOf(r.fileId)).map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [3, 'column-count'],
+      [4, 'column-count'],
+      [5, 'bad-time'],
+      [7, 'bad-time'],
+    ]);
+    expect(r.summary.samples).toBe(4);
+  });
+
+  it('the same bytes dropped again are not ingested again', async () => {
+    const again = join(dir, 'again.csv');
+    await cp(join(dir, 'processed', 'broken-quoting.csv'), again);
+    const r = await ingest('again.csv');
+    expect(r.status).toBe('duplicate');
+    const files = await readdir(join(dir, 'processed'));
+    expect(files.some((f) => f.startsWith('again.csv'))).toBe(true);
+  });
+});

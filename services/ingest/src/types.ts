@@ -1,0 +1,49 @@
+/** Samples as the ingest hands them to the store, and the sink that stores them. */
+
+/**
+ * Quality codes stored with each sample, as in OPC DA (OPC Data Access 2.05a, quality
+ * bits QQ): Good = 192 (0xC0), Uncertain = 64 (0x40), Bad = 0. OPC UA status codes map by
+ * their severity bits (OPC UA Part 4, 7.39: 00 good, 01 uncertain, 10/11 bad).
+ */
+export const QUALITY = { good: 192, uncertain: 64, bad: 0 } as const;
+
+export interface Sample {
+  readonly tagId: number;
+  /** Sample time (UTC instant). */
+  readonly time: Date;
+  /** Value in the tag's own unit, as received. */
+  readonly value: number;
+  /** OPC DA quality code, see QUALITY. */
+  readonly quality: number;
+}
+
+/**
+ * Where samples go. Writes must be idempotent: a batch sent again never duplicates rows
+ * (the store's SampleWriter and PgSampleSink both key on (tag_id, time)). A write resolves
+ * only once the rows are committed.
+ */
+export interface SampleSink {
+  write(samples: readonly Sample[]): Promise<void>;
+  flush(): Promise<void>;
+  close?(): Promise<void>;
+}
+
+/** A configured tag as the ingest needs it. */
+export interface TagInfo {
+  readonly id: number;
+  readonly name: string;
+  /** Unit the raw samples are stored in. */
+  readonly unit: string;
+}
+
+/** Tag names (as the plant writes them) to tag ids. */
+export interface TagLookup {
+  get(name: string): TagInfo | undefined;
+  readonly size: number;
+}
+
+export function tagLookupFrom(tags: Iterable<TagInfo>): TagLookup {
+  const map = new Map<string, TagInfo>();
+  for (const t of tags) map.set(t.name, t);
+  return { get: (name) => map.get(name), size: map.size };
+}
