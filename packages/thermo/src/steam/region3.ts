@@ -88,7 +88,7 @@ export function density3(p: number, T: number, rho0: number): number {
     if (step > limit) step = limit;
     else if (step < -limit) step = -limit;
     rho += step;
-    if (Math.abs(step) <= 1e-15 * rho) {
+    if (Math.abs(step) <= 1e-13 * rho) {
       helmholtz3(rho, T);
       return rho;
     }

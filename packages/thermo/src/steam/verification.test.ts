@@ -1,4 +1,5 @@
 import { describe, expect, it } from 'vitest';
+import { saturationPressure, saturationTemperature, waterPT } from './index.js';
 import { backwardT1PH, backwardT1PS } from './region1.js';
 import { backwardT2PH, backwardT2PS, hB2bc, pB2bc } from './region2.js';
 import {
@@ -15,7 +16,6 @@ import {
   t3Poly,
 } from './region3-backward.js';
 import { pB23, tB23 } from './region4.js';
-import { saturationPressure, saturationTemperature, waterPT } from './index.js';
 
 /**
  * The computer-program verification values printed in IAPWS R7-97(2012) and its supplementary
@@ -56,7 +56,7 @@ describe('IAPWS-IF97 forward equations', () => {
       [
         [300, 3, 0.100215168e-2, 0.115331273e3, 0.112324818e3, 0.392294792, 0.417301218e1, 0.150773921e4],
         [300, 80, 0.971180894e-3, 0.184142828e3, 0.106448356e3, 0.368563852, 0.401008987e1, 0.163469054e4],
-        [500, 3, 0.120241800e-2, 0.975542239e3, 0.971934985e3, 0.258041912e1, 0.465580682e1, 0.124071337e4],
+        [500, 3, 0.1202418e-2, 0.975542239e3, 0.971934985e3, 0.258041912e1, 0.465580682e1, 0.124071337e4],
       ],
       1,
     );
@@ -66,8 +66,14 @@ describe('IAPWS-IF97 forward equations', () => {
     // Source: IAPWS R7-97(2012) Table 15.
     checkRows(
       [
-        [300, 0.0035, 0.394913866e2, 0.254991145e4, 0.241169160e4, 0.852238967e1, 0.191300162e1, 0.427920172e3],
-        [700, 0.0035, 0.923015898e2, 0.333568375e4, 0.301262819e4, 0.101749996e2, 0.208141274e1, 0.644289068e3],
+        [
+          300, 0.0035, 0.394913866e2, 0.254991145e4, 0.24116916e4, 0.852238967e1, 0.191300162e1,
+          0.427920172e3,
+        ],
+        [
+          700, 0.0035, 0.923015898e2, 0.333568375e4, 0.301262819e4, 0.101749996e2, 0.208141274e1,
+          0.644289068e3,
+        ],
         [700, 30, 0.542946619e-2, 0.263149474e4, 0.246861076e4, 0.517540298e1, 0.103505092e2, 0.480386523e3],
       ],
       2,
@@ -78,9 +84,36 @@ describe('IAPWS-IF97 forward equations', () => {
     // Source: IAPWS R7-97(2012) Table 33, rows (rho, T) = (500, 650), (200, 650), (500, 750).
     // The table gives p for (rho, T); waterPT solves rho back from (p, T), so v = 1/rho is checked too.
     const rows: Row[] = [
-      [650, 0.255837018e2, 1 / 500, 0.186343019e4, 0.181226279e4, 0.405427273e1, 0.138935717e2, 0.502005554e3],
-      [650, 0.222930643e2, 1 / 200, 0.237512401e4, 0.226365868e4, 0.485438792e1, 0.446579342e2, 0.383444594e3],
-      [750, 0.783095639e2, 1 / 500, 0.225868845e4, 0.210206932e4, 0.446971906e1, 0.634165359e1, 0.760696041e3],
+      [
+        650,
+        0.255837018e2,
+        1 / 500,
+        0.186343019e4,
+        0.181226279e4,
+        0.405427273e1,
+        0.138935717e2,
+        0.502005554e3,
+      ],
+      [
+        650,
+        0.222930643e2,
+        1 / 200,
+        0.237512401e4,
+        0.226365868e4,
+        0.485438792e1,
+        0.446579342e2,
+        0.383444594e3,
+      ],
+      [
+        750,
+        0.783095639e2,
+        1 / 500,
+        0.225868845e4,
+        0.210206932e4,
+        0.446971906e1,
+        0.634165359e1,
+        0.760696041e3,
+      ],
     ];
     // Looser on v and properties near the critical point: p is printed to 9 digits, and
     // d(ln v)/d(ln p) at (200 kg/m3, 650 K) is about 1/(rho dp/drho / p) ~ 20, so 9 printed
@@ -102,7 +135,7 @@ describe('IAPWS-IF97 forward equations', () => {
     // Source: IAPWS R7-97(2012) Table 42.
     checkRows(
       [
-        [1500, 0.5, 0.138455090e1, 0.521976855e4, 0.452749310e4, 0.965408875e1, 0.261609445e1, 0.917068690e3],
+        [1500, 0.5, 0.13845509e1, 0.521976855e4, 0.45274931e4, 0.965408875e1, 0.261609445e1, 0.91706869e3],
         [1500, 30, 0.230761299e-1, 0.516723514e4, 0.447495124e4, 0.772970133e1, 0.272724317e1, 0.928548002e3],
         [2000, 30, 0.311385219e-1, 0.657122604e4, 0.563707038e4, 0.853640523e1, 0.288569882e1, 0.106736948e4],
       ],
@@ -158,14 +191,14 @@ describe('IAPWS-IF97 backward equations (raw output against published digits)', 
     // Source: IAPWS R7-97(2012) Table 24 (subregions 2a, 2b, 2c).
     const rows: [number, number, number][] = [
       [0.001, 3000, 0.534433241e3],
-      [3, 3000, 0.575373370e3],
+      [3, 3000, 0.57537337e3],
       [3, 4000, 0.101077577e4],
       [5, 3500, 0.801299102e3],
       [5, 4000, 0.101531583e4],
       [25, 3500, 0.875279054e3],
       [40, 2700, 0.743056411e3],
       [60, 2700, 0.791137067e3],
-      [60, 3200, 0.882756860e3],
+      [60, 3200, 0.88275686e3],
     ];
     for (const [p, h, T] of rows) expectRel(backwardT2PH(p * 1e6, h * 1e3), T);
   });
@@ -176,7 +209,7 @@ describe('IAPWS-IF97 backward equations (raw output against published digits)', 
       [0.1, 7.5, 0.399517097e3],
       [0.1, 8, 0.514127081e3],
       [2.5, 8, 0.103984917e4],
-      [8, 6, 0.600484040e3],
+      [8, 6, 0.60048404e3],
       [8, 7.5, 0.106495556e4],
       [90, 6, 0.103801126e4],
       [20, 5.75, 0.697992849e3],
@@ -246,7 +279,7 @@ describe('IAPWS SR5-05 region 3 backward v(p,T)', () => {
   it('v(p,T) and the subregion choice match SR5-05 Tables 5 and 13', () => {
     // Source: IAPWS SR5-05 Table 5 (subregions 3a to 3t) and Table 13 (3u to 3z): [p MPa, T K, v m3/kg, subregion].
     const rows: [number, number, number, string][] = [
-      [50, 630, 1.47085310e-3, '3a'],
+      [50, 630, 1.4708531e-3, '3a'],
       [80, 670, 1.503831359e-3, '3a'],
       [50, 710, 2.204728587e-3, '3b'],
       [80, 750, 1.97369294e-3, '3b'],
