@@ -42,20 +42,13 @@ export function propagateGum<Y extends ModelOutput>(
   const xv = Float64Array.from(x);
   const value = f(Float64Array.from(xv));
   if (value instanceof Float64Array) {
-    const m = value.length;
-    const sum = new Float64Array(m);
-    for (let i = 0; i < n; i++) {
-      const ui = u[i]!;
-      if (ui === 0) continue;
-      const d = difference(f, xv, i, ui, value) as Float64Array | undefined;
-      if (d === undefined) {
-        sum.fill(Number.NaN);
-        continue;
-      }
-      for (let j = 0; j < m; j++) sum[j]! += d[j]! * d[j]!;
-    }
-    for (let j = 0; j < m; j++) sum[j] = Math.sqrt(sum[j]!);
-    return { value, uncertainty: sum } as GumResult<Y>;
+    // Copied: f may reuse its output buffer between calls.
+    return propagateVector(
+      f as (x: Float64Array) => Float64Array,
+      xv,
+      u,
+      Float64Array.from(value),
+    ) as GumResult<Y>;
   }
   const record = value as Readonly<Record<string, number | undefined>>;
   const keys = Object.keys(record).filter((k) => Number.isFinite(record[k]));
@@ -79,19 +72,70 @@ export function propagateGum<Y extends ModelOutput>(
 }
 
 /**
+ * The vector form, written for speed (the machine wrapper runs it per sample): f receives a
+ * scratch array it must not keep, and a NaN output (no value) gives a NaN uncertainty.
+ */
+function propagateVector(
+  f: (x: Float64Array) => Float64Array,
+  x: Float64Array,
+  u: ArrayLike<number>,
+  value: Float64Array,
+): GumResult<Float64Array> {
+  const m = value.length;
+  const sum = new Float64Array(m);
+  const scratch = Float64Array.from(x);
+  const plusBuffer = new Float64Array(m);
+  for (let i = 0; i < x.length; i++) {
+    const ui = u[i]!;
+    if (ui === 0) continue;
+    const xi = x[i]!;
+    scratch[i] = xi + ui;
+    let plus: Float64Array | undefined;
+    try {
+      // Copied out: f may reuse its output buffer between calls.
+      plusBuffer.set(f(scratch));
+      plus = plusBuffer;
+    } catch {
+      plus = undefined;
+    }
+    scratch[i] = xi - ui;
+    let minus: Float64Array | undefined;
+    try {
+      minus = f(scratch);
+    } catch {
+      minus = undefined;
+    }
+    scratch[i] = xi;
+    if (plus === undefined && minus === undefined) {
+      sum.fill(Number.NaN);
+      continue;
+    }
+    const hi = plus ?? value;
+    const lo = minus ?? value;
+    const scale = plus !== undefined && minus !== undefined ? 0.5 : 1;
+    for (let j = 0; j < m; j++) {
+      const d = (hi[j]! - lo[j]!) * scale;
+      sum[j]! += d * d;
+    }
+  }
+  for (let j = 0; j < m; j++) sum[j] = Math.sqrt(sum[j]!);
+  return { value, uncertainty: sum };
+}
+
+/**
  * u_i times the derivative of each output with respect to x_i: (f(x+u) - f(x-u)) / 2, or one-sided
  * when one side throws. Undefined when both sides throw.
  */
-function difference<Y extends ModelOutput>(
-  f: (x: Float64Array) => Y,
+function difference(
+  f: (x: Float64Array) => ModelOutput,
   x: Float64Array,
   i: number,
   ui: number,
-  base: Y,
-): Y | undefined {
+  base: ModelOutput,
+): Readonly<Record<string, number | undefined>> | undefined {
   const xi = x[i]!;
-  let plus: Y | undefined;
-  let minus: Y | undefined;
+  let plus: ModelOutput | undefined;
+  let minus: ModelOutput | undefined;
   x[i] = xi + ui;
   try {
     plus = f(Float64Array.from(x));
@@ -109,12 +153,6 @@ function difference<Y extends ModelOutput>(
   const lo = minus ?? base;
   if (plus === undefined && minus === undefined) return undefined;
   const scale = plus !== undefined && minus !== undefined ? 0.5 : 1;
-  if (hi instanceof Float64Array) {
-    const l = lo as Float64Array;
-    const d = new Float64Array(hi.length);
-    for (let j = 0; j < hi.length; j++) d[j] = (hi[j]! - l[j]!) * scale;
-    return d as Y;
-  }
   const h = hi as Readonly<Record<string, number | undefined>>;
   const l = lo as Readonly<Record<string, number | undefined>>;
   const d: Record<string, number | undefined> = {};
@@ -123,5 +161,5 @@ function difference<Y extends ModelOutput>(
     const b = l[k];
     d[k] = a === undefined || b === undefined ? undefined : (a - b) * scale;
   }
-  return d as Y;
+  return d;
 }

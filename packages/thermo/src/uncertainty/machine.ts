@@ -84,62 +84,69 @@ function readInput(input: MachineInput, key: UncertainInput): number | undefined
   }
 }
 
+/** Enough for the base point and both sides of all nine inputs (3 + 9 x 2 x 2 state points). */
+const MEMO_SIZE = 40;
+
 /**
- * A fluid that remembers its last few answers: the GUM differences change one input at a time,
- * so most state points repeat (perturbing the mass flow recomputes no state at all).
+ * A fluid that remembers the state points of one uncertainty evaluation: the GUM differences
+ * change one input at a time, so most state points repeat (perturbing the mass flow recomputes
+ * no state at all). Searched oldest first, because the base point's states are hit most.
  */
-function memoFluid(fluid: Fluid): Fluid {
-  const size = 16;
-  const keyA = new Float64Array(size * 3);
-  const vals: (FluidState | undefined)[] = new Array(size);
-  let next = 0;
-  const lookup = (method: number, a: number, b: number, compute: () => FluidState): FluidState => {
-    for (let i = 0; i < size; i++) {
-      const j = i * 3;
-      if (keyA[j] === method && keyA[j + 1] === a && keyA[j + 2] === b) {
-        const hit = vals[i];
-        if (hit !== undefined) return hit;
-      }
-    }
-    const value = compute();
-    const j = next * 3;
-    keyA[j] = method;
-    keyA[j + 1] = a;
-    keyA[j + 2] = b;
-    vals[next] = value;
-    next = (next + 1) % size;
-    return value;
-  };
-  const memo: Fluid = {
-    name: fluid.name,
-    kind: fluid.kind,
-    statePT: (p, T) => lookup(1, p, T, () => fluid.statePT(p, T)),
-    statePH: (p, h) => lookup(2, p, h, () => fluid.statePH(p, h)),
-    statePS: (p, s) => lookup(3, p, s, () => fluid.statePS(p, s)),
-  };
-  const tsat = fluid.saturationTemperature?.bind(fluid);
-  if (tsat !== undefined) {
-    let lastP = Number.NaN;
-    let lastT = Number.NaN;
-    return {
-      ...memo,
-      saturationTemperature: (p) => {
-        if (p !== lastP) {
-          lastT = tsat(p);
-          lastP = p;
-        }
-        return lastT;
-      },
-    };
+class MemoFluid implements Fluid {
+  readonly name: string;
+  readonly kind: Fluid['kind'];
+  readonly saturationTemperature?: ((p: number) => number) | undefined;
+  private readonly keys = new Float64Array(MEMO_SIZE * 3);
+  private readonly values: FluidState[] = [];
+
+  constructor(private readonly inner: Fluid) {
+    this.name = inner.name;
+    this.kind = inner.kind;
+    const tsat = inner.saturationTemperature;
+    if (tsat !== undefined) this.saturationTemperature = (p: number): number => tsat.call(inner, p);
   }
-  return memo;
+
+  private find(method: number, a: number, b: number): FluidState | undefined {
+    const k = this.keys;
+    const n = this.values.length;
+    for (let i = 0, j = 0; i < n; i++, j += 3) {
+      if (k[j + 2] === b && k[j + 1] === a && k[j] === method) return this.values[i];
+    }
+    return undefined;
+  }
+
+  private store(method: number, a: number, b: number, value: FluidState): FluidState {
+    const i = this.values.length;
+    if (i === MEMO_SIZE) return value; // full: compute without remembering
+    const j = i * 3;
+    this.keys[j] = method;
+    this.keys[j + 1] = a;
+    this.keys[j + 2] = b;
+    this.values.push(value);
+    return value;
+  }
+
+  statePT(p: number, T: number): FluidState {
+    return this.find(1, p, T) ?? this.store(1, p, T, this.inner.statePT(p, T));
+  }
+
+  statePH(p: number, h: number): FluidState {
+    return this.find(2, p, h) ?? this.store(2, p, h, this.inner.statePH(p, h));
+  }
+
+  statePS(p: number, s: number): FluidState {
+    return this.find(3, p, s) ?? this.store(3, p, s, this.inner.statePS(p, s));
+  }
 }
+
+type Mutable<T> = { -readonly [K in keyof T]: T[K] };
 
 interface Prepared {
   readonly keys: UncertainInput[];
   readonly x: Float64Array;
   readonly u: Float64Array;
-  readonly model: (x: Float64Array) => Record<string, number | undefined>;
+  /** The machine as a vector function of the uncertain inputs; outputs in UNCERTAIN_OUTPUTS order, NaN when absent. */
+  readonly model: (x: Float64Array) => Float64Array;
   readonly fluid: Fluid;
 }
 
@@ -166,31 +173,64 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
     xs.push(reading);
     us.push(ui);
   }
-  const fluid = memoFluid(input.fluid);
-  const base: MachineInput = { ...input, fluid };
-  const model = (x: Float64Array): Record<string, number | undefined> => {
-    let inlet = base.inlet;
-    let outlet = base.outlet;
-    const changed: Record<string, number> = {};
+  const fluid = new MemoFluid(input.fluid);
+  // One mutable input, rewritten per evaluation: the machine functions only read it.
+  const inlet = { p: input.inlet.p, T: input.inlet.T };
+  const outlet = { p: input.outlet.p, T: input.outlet.T };
+  const work: Mutable<MachineInput> = { ...input, fluid, inlet, outlet };
+  const out = new Float64Array(UNCERTAIN_OUTPUTS.length);
+  const model = (x: Float64Array): Float64Array => {
     for (let i = 0; i < keys.length; i++) {
-      const key = keys[i]!;
       const value = x[i]!;
-      if (key === 'inlet.p') inlet = { p: value, T: inlet.T };
-      else if (key === 'inlet.T') inlet = { p: inlet.p, T: value };
-      else if (key === 'outlet.p') outlet = { p: value, T: outlet.T };
-      else if (key === 'outlet.T') outlet = { p: outlet.p, T: value };
-      else changed[key] = value;
+      switch (keys[i]!) {
+        case 'inlet.p':
+          inlet.p = value;
+          break;
+        case 'inlet.T':
+          inlet.T = value;
+          break;
+        case 'outlet.p':
+          outlet.p = value;
+          break;
+        case 'outlet.T':
+          outlet.T = value;
+          break;
+        case 'massFlow':
+          work.massFlow = value;
+          break;
+        case 'volumeFlow':
+          work.volumeFlow = value;
+          break;
+        case 'shaftPower':
+          work.shaftPower = value;
+          break;
+        case 'electricalPower':
+          work.electricalPower = value;
+          break;
+        case 'driverEfficiency':
+          work.driverEfficiency = value;
+          break;
+      }
     }
-    const r = evaluateMachine({ ...base, ...changed, inlet, outlet });
-    return pickOutputs(r);
+    const r = evaluateMachine(work);
+    // Spelled out, in UNCERTAIN_OUTPUTS order: named loads are much faster than keyed ones here.
+    out[0] = r.isentropicEfficiency ?? Number.NaN;
+    out[1] = r.specificWork ?? Number.NaN;
+    out[2] = r.isentropicSpecificWork;
+    out[3] = r.power ?? Number.NaN;
+    out[4] = r.entropyGeneration ?? Number.NaN;
+    out[5] = r.polytropicEfficiency ?? Number.NaN;
+    out[6] = r.polytropicHead ?? Number.NaN;
+    out[7] = r.head ?? Number.NaN;
+    out[8] = r.hydraulicPower ?? Number.NaN;
+    out[9] = r.hydraulicEfficiency ?? Number.NaN;
+    out[10] = r.thermodynamicEfficiency ?? Number.NaN;
+    out[11] = r.airPower ?? Number.NaN;
+    out[12] = r.fanEfficiency ?? Number.NaN;
+    out[13] = r.massFlow ?? Number.NaN;
+    return out;
   };
   return { keys, x: Float64Array.from(xs), u: Float64Array.from(us), model, fluid };
-}
-
-function pickOutputs(r: MachineResult): Record<string, number | undefined> {
-  const out: Record<string, number | undefined> = {};
-  for (const key of UNCERTAIN_OUTPUTS) out[key] = r[key];
-  return out;
 }
 
 export interface MachineWithUncertainty {
@@ -214,7 +254,11 @@ export function evaluateMachineWithUncertainty(
   const result = evaluateMachine({ ...input, fluid: prepared.fluid });
   if (prepared.keys.length === 0) return { result, uncertainty: {} };
   const gum = propagateGum(prepared.model, prepared.x, prepared.u);
-  const uncertainty = gum.uncertainty as MachineOutputUncertainty;
+  const uncertainty: MachineOutputUncertainty = {};
+  for (let j = 0; j < UNCERTAIN_OUTPUTS.length; j++) {
+    const uj = gum.uncertainty[j]!;
+    if (Number.isFinite(uj)) uncertainty[UNCERTAIN_OUTPUTS[j]!] = uj;
+  }
   return { result: reflag(input, result, uncertainty), uncertainty };
 }
 
@@ -251,9 +295,14 @@ export function machineMonteCarlo(
   uncertainties: MachineUncertainties,
   options: MonteCarloOptions = {},
 ): Partial<Record<UncertainOutput, MonteCarloSummary>> {
-  const prepared = prepare(input, { ...uncertainties });
-  // No memo needed here, but it does no harm: every trial misses.
-  return propagateMonteCarlo(prepared.model, prepared.x, prepared.u, options) as Partial<
+  const prepared = prepare(input, uncertainties);
+  const named = (x: Float64Array): Record<string, number> => {
+    const y = prepared.model(x);
+    const out: Record<string, number> = {};
+    for (let j = 0; j < UNCERTAIN_OUTPUTS.length; j++) out[UNCERTAIN_OUTPUTS[j]!] = y[j]!;
+    return out;
+  };
+  return propagateMonteCarlo(named, prepared.x, prepared.u, options) as Partial<
     Record<UncertainOutput, MonteCarloSummary>
   >;
 }
