@@ -7,6 +7,9 @@ const USAGE = `Usage: isentrope <command>
 Commands:
   start            run database, migrations, API, ingest and jobs in one process
   migrate          apply pending database migrations and print the level reached
+  plant load FILE  validate a plant file (YAML or JSON) and load it into the database
+  plant check FILE validate a plant file only
+  calc [FILE]      compute one machine case from a JSON file or stdin (--json for JSON output)
 
 Environment: DATABASE_URL (unset: embedded PostgreSQL under ISENTROPE_DATA_DIR), HOST, PORT,
 LOG_LEVEL, LOG_FORMAT (json|pretty). See README.md.
@@ -14,10 +17,14 @@ LOG_LEVEL, LOG_FORMAT (json|pretty). See README.md.
 
 async function main(argv: readonly string[]): Promise<number> {
   const [command, ...rest] = argv;
-  void rest;
   if (command === undefined || command === 'help' || command === '--help' || command === '-h') {
     stderr.write(USAGE);
     return command === undefined ? 2 : 0;
+  }
+  if (command === 'calc') {
+    // Pure computation: no database, no configuration needed.
+    const { runCalc } = await import('./commands/calc.js');
+    return runCalc(rest, { stdin: process.stdin, stdout: process.stdout, stderr: process.stderr });
   }
   let config: ReturnType<typeof loadConfig>;
   try {
@@ -41,6 +48,10 @@ async function main(argv: readonly string[]): Promise<number> {
         const { migrateCommand } = await import('./commands/migrate.js');
         await migrateCommand(config, logger);
         return 0;
+      }
+      case 'plant': {
+        const { plantCommand } = await import('./commands/plant.js');
+        return await plantCommand(rest, config, logger);
       }
       default:
         stderr.write(`isentrope: unknown command "${command}"\n\n${USAGE}`);
