@@ -158,6 +158,15 @@ function alignOne(
   if (tag.value.length !== m) throw new LengthMismatchError(`${tag.role}.value`, m, tag.value.length);
   if (tag.quality !== undefined && tag.quality.length !== m)
     throw new LengthMismatchError(`${tag.role}.quality`, m, tag.quality.length);
+  // Typed copies keep the hot loop monomorphic whatever array type the caller passed.
+  const tt = tag.t instanceof Float64Array ? tag.t : Float64Array.from(tag.t);
+  const vv = tag.value instanceof Float64Array ? tag.value : Float64Array.from(tag.value);
+  const q =
+    tag.quality === undefined
+      ? undefined
+      : tag.quality instanceof Uint8Array
+        ? tag.quality
+        : Uint8Array.from(tag.quality);
   const sum = new Float64Array(n); // integral of value dt over covered time [SI x ms]
   const covered = new Float64Array(n); // covered time [ms]
   const flags = new Uint8Array(n);
@@ -166,13 +175,12 @@ function alignOne(
   const lastGood = new Float64Array(n).fill(Number.NEGATIVE_INFINITY);
   let badTotal = 0;
   let prevT = Number.NEGATIVE_INFINITY;
-  const q = tag.quality;
 
   for (let k = 0; k < m; k++) {
-    const tk = tag.t[k] as number;
+    const tk = tt[k] as number;
     if (!(tk >= prevT)) throw new UnsortedTimesError(tag.role, k, prevT, tk);
     prevT = tk;
-    const vk = tag.value[k] as number;
+    const vk = vv[k] as number;
     const qk = q === undefined ? QUALITY_GOOD : (q[k] as number);
     const isBad =
       qk === QUALITY_BAD || (qk === QUALITY_UNCERTAIN && !acceptUncertain) || !Number.isFinite(vk);
@@ -187,7 +195,7 @@ function alignOne(
     }
     if (iAt >= 0 && iAt < n && tk > (lastGood[iAt] as number)) lastGood[iAt] = tk;
     // The hold ends at the next sample (of any quality), after maxAge, or at the grid end.
-    const next = k + 1 < m ? (tag.t[k + 1] as number) : Number.POSITIVE_INFINITY;
+    const next = k + 1 < m ? (tt[k + 1] as number) : Number.POSITIVE_INFINITY;
     let a = Math.max(tk, startMs);
     const b = Math.min(next, tk + maxAgeMs, gridEnd);
     if (!(b > a)) continue;
@@ -207,10 +215,10 @@ function alignOne(
   // Samples before the grid may still be the newest good value at the first interval end.
   let newestBefore = Number.NEGATIVE_INFINITY;
   for (let k = 0; k < m; k++) {
-    const tk = tag.t[k] as number;
+    const tk = tt[k] as number;
     if (tk >= startMs) break;
     const qk = q === undefined ? QUALITY_GOOD : (q[k] as number);
-    const vk = tag.value[k] as number;
+    const vk = vv[k] as number;
     if (qk === QUALITY_GOOD || (qk === QUALITY_UNCERTAIN && acceptUncertain))
       if (Number.isFinite(vk)) newestBefore = tk;
   }

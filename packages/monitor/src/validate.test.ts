@@ -98,6 +98,34 @@ describe('validateAligned', () => {
     expect(f.flags[501]! & VALID_SPIKE).toBe(0);
   });
 
+  it('the sliding Hampel matches a direct median/MAD computation, gaps included', () => {
+    // Direct reference written out here (common practice, no source).
+    const z = seededNormal(8);
+    const x = Array.from({ length: 400 }, (_, i) =>
+      i % 37 === 0 ? Number.NaN : Math.round(10 * z()) / 10 + (i % 50 === 7 ? 5 : 0),
+    );
+    const a = alignTags([tag('x', x)], { startMs: 0, endMs: 400 * MIN });
+    const med = (v: number[]) => {
+      const s = [...v].sort((p, q) => p - q);
+      const k = s.length >> 1;
+      return s.length % 2 === 1 ? s[k]! : (s[k - 1]! + s[k]!) / 2;
+    };
+    for (const h of [1, 2, 5]) {
+      const v = validateAligned(a, [{ role: 'x', spike: { halfWindow: h, nSigma: 2.5 } }]);
+      const got = Array.from(v.tags.get('x')!.flags, (f) => (f & VALID_SPIKE) !== 0);
+      const want = x.map((xi, i) => {
+        if (!Number.isFinite(xi)) return false;
+        const w = x.slice(Math.max(0, i - h), i + h + 1).filter(Number.isFinite);
+        if (w.length < 3) return false;
+        const m = med(w);
+        const d = Math.abs(xi - m);
+        return d > 0 && d > 2.5 * 1.4826 * med(w.map((u) => Math.abs(u - m)));
+      });
+      expect(got).toEqual(want);
+      expect(want.filter(Boolean).length).toBeGreaterThan(3);
+    }
+  });
+
   it('a clean step is not a spike', () => {
     const x = Array.from({ length: 40 }, (_, i) => (i < 20 ? 10 : 20));
     const a = alignTags([tag('x', x)], { startMs: 0, endMs: 40 * MIN });

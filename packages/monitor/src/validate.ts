@@ -18,6 +18,11 @@
 import { ALIGN_BAD_EXCLUDED, ALIGN_MISSING, ALIGN_STALE, type Aligned } from './align.js';
 import { LengthMismatchError, MonitorBadInputError } from './errors.js';
 
+// Local copies: imported bindings can cost a getter call per use in hot loops once transpiled.
+const A_MISSING = ALIGN_MISSING;
+const A_STALE = ALIGN_STALE;
+const A_BAD = ALIGN_BAD_EXCLUDED;
+
 /** Validation flags (bit mask), per tag and per point. */
 export const VALID_MISSING = 1;
 export const VALID_STALE = 2;
@@ -162,9 +167,9 @@ export function validateAligned(
     for (let i = 0; i < n; i++) {
       const af = tag.flags[i] as number;
       let f = 0;
-      if ((af & ALIGN_MISSING) !== 0) f |= VALID_MISSING;
-      if ((af & ALIGN_STALE) !== 0) f |= VALID_STALE;
-      if ((af & ALIGN_BAD_EXCLUDED) !== 0) f |= VALID_BAD_QUALITY;
+      if ((af & A_MISSING) !== 0) f |= VALID_MISSING;
+      if ((af & A_STALE) !== 0) f |= VALID_STALE;
+      if ((af & A_BAD) !== 0) f |= VALID_BAD_QUALITY;
       const v = x[i] as number;
       if (Number.isFinite(v) && (v < min || v > max)) f |= VALID_RANGE;
       flags[i] = f;
@@ -187,7 +192,13 @@ export function validateAligned(
     if (cfg.stuck === undefined) continue;
     const std = stdByRole.get(cfg.role)!;
     const identical = flatByRole.get(cfg.role)!;
-    const others = keyRoles.filter((r) => r !== cfg.role && stdByRole.has(r));
+    const others = keyRoles
+      .filter((r) => r !== cfg.role && stdByRole.has(r))
+      .map((r) => ({
+        std: stdByRole.get(r)!,
+        flat: flatByRole.get(r)!,
+        minStd: byRole.get(r)!.stuck!.minStd,
+      }));
     const w = cfg.stuck.window;
     const mark = new Int32Array(n + 1); // difference array: flag the whole window
     for (let i = w - 1; i < n; i++) {
@@ -195,11 +206,10 @@ export function validateAligned(
       const flat = identical[i] === 1 || (Number.isFinite(s) && s < cfg.stuck.minStd);
       if (!flat) continue;
       let moving = false;
-      for (const r of others) {
-        const so = stdByRole.get(r)![i] as number;
-        const minStd = byRole.get(r)!.stuck!.minStd;
-        // An other tag "moves" when its own spread is clearly above its own flat threshold.
-        if (Number.isFinite(so) && so > minStd && flatByRole.get(r)![i] === 0) {
+      for (const o of others) {
+        const so = o.std[i] as number;
+        // An other tag "moves" when its own spread is above its own flat threshold.
+        if (Number.isFinite(so) && so > o.minStd && o.flat[i] === 0) {
           moving = true;
           break;
         }
@@ -231,14 +241,14 @@ export function validateAligned(
   const valid = new Uint8Array(n);
   const instrumentFault = new Uint8Array(n);
   const keySet = new Set(keyRoles.length > 0 ? keyRoles : aligned.roles);
+  const keyFlags = [...flagsByRole].filter(([role]) => keySet.has(role)).map(([, f]) => f);
+  const allFlags = [...flagsByRole.values()];
   for (let i = 0; i < n; i++) {
     let key = modelMask[i] as number;
-    let instrument = (modelMask[i] as number) & INSTRUMENT_FLAGS;
-    for (const [role, flags] of flagsByRole) {
-      const f = flags[i] as number;
-      if (keySet.has(role)) key |= f;
-      instrument |= f & INSTRUMENT_FLAGS;
-    }
+    let instrument = key;
+    for (const flags of keyFlags) key |= flags[i] as number;
+    for (const flags of allFlags) instrument |= flags[i] as number;
+    instrument &= INSTRUMENT_FLAGS;
     pointFlags[i] = key;
     valid[i] = (key & INVALIDATING_FLAGS) === 0 ? 1 : 0;
     instrumentFault[i] = instrument !== 0 ? 1 : 0;
@@ -320,7 +330,11 @@ export function movingStd(x: ArrayLike<number>, w: number): { std: Float64Array;
   return { std, identical };
 }
 
-/** Hampel identifier over a centred window; sets VALID_SPIKE in `flags`. */
+/**
+ * Hampel identifier over a centred window; sets VALID_SPIKE in `flags`. The window is kept sorted
+ * as it slides (one insertion, one removal per step), so the median is read off directly and the
+ * MAD is the k-th smallest of two already-sorted deviation runs (left and right of the median).
+ */
 function hampel(x: Float64Array, flags: Uint16Array, cfg: SpikeCheck): void {
   const h = cfg.halfWindow ?? 5;
   const nSigma = cfg.nSigma ?? 3;
@@ -328,39 +342,62 @@ function hampel(x: Float64Array, flags: Uint16Array, cfg: SpikeCheck): void {
   if (!(Number.isInteger(h) && h >= 1)) throw new MonitorBadInputError('spike.halfWindow', h, 'integer >= 1');
   if (!(nSigma > 0)) throw new MonitorBadInputError('spike.nSigma', nSigma, 'must be positive');
   const n = x.length;
-  const buf = new Float64Array(2 * h + 1);
-  const dev = new Float64Array(2 * h + 1);
-  for (let i = 0; i < n; i++) {
-    const xi = x[i] as number;
-    if (!Number.isFinite(xi)) continue;
-    let m = 0;
-    const lo = Math.max(0, i - h);
-    const hi = Math.min(n - 1, i + h);
-    for (let j = lo; j <= hi; j++) {
-      const v = x[j] as number;
-      if (Number.isFinite(v)) buf[m++] = v;
+  const win = new Float64Array(2 * h + 1);
+  let m = 0;
+  const insert = (v: number): void => {
+    let j = m - 1;
+    while (j >= 0 && (win[j] as number) > v) {
+      win[j + 1] = win[j] as number;
+      j--;
     }
-    if (m < 3) continue;
-    const med = sortedMedian(buf, m);
-    for (let j = 0; j < m; j++) dev[j] = Math.abs((buf[j] as number) - med);
-    const mad = sortedMedian(dev, m);
+    win[j + 1] = v;
+    m++;
+  };
+  const remove = (v: number): void => {
+    let j = 0;
+    while (j < m && win[j] !== v) j++;
+    for (; j < m - 1; j++) win[j] = win[j + 1] as number;
+    m--;
+  };
+  for (let j = 0; j <= Math.min(h, n - 1); j++) if (Number.isFinite(x[j] as number)) insert(x[j] as number);
+  for (let i = 0; i < n; i++) {
+    if (i > 0) {
+      // Drop before adding: the buffer holds at most 2h + 1 values.
+      const drop = i - h - 1;
+      if (drop >= 0 && Number.isFinite(x[drop] as number)) remove(x[drop] as number);
+      const add = i + h;
+      if (add < n && Number.isFinite(x[add] as number)) insert(x[add] as number);
+    }
+    const xi = x[i] as number;
+    if (!Number.isFinite(xi) || m < 3) continue;
+    const k = m >> 1;
+    const med = m % 2 === 1 ? (win[k] as number) : ((win[k - 1] as number) + (win[k] as number)) / 2;
     const d = Math.abs(xi - med);
+    if (!(d > minDev) || d === 0) continue;
+    const mad = kthDeviation(win, m, med, k, m % 2 === 0);
     // 1.4826 = 1/Phi^-1(3/4): MAD to sigma for normal data (Hampel 1974).
-    if (d > nSigma * 1.4826 * mad && d > minDev) flags[i] = (flags[i] as number) | VALID_SPIKE;
+    if (d > nSigma * 1.4826 * mad) flags[i] = (flags[i] as number) | VALID_SPIKE;
   }
 }
 
-/** Median of the first m entries of a (sorted in place by insertion; m is small). */
-function sortedMedian(a: Float64Array, m: number): number {
-  for (let i = 1; i < m; i++) {
-    const v = a[i] as number;
-    let j = i - 1;
-    while (j >= 0 && (a[j] as number) > v) {
-      a[j + 1] = a[j] as number;
-      j--;
+/** Median of |w_j - med| over the sorted w[0..m-1]: merge the two ascending deviation runs. */
+function kthDeviation(w: Float64Array, m: number, med: number, k: number, even: boolean): number {
+  let r = 0;
+  while (r < m && (w[r] as number) < med) r++;
+  let l = r - 1; // left run: med - w[l], ascending as l falls
+  let prev = 0;
+  let cur = 0;
+  for (let c = 0; c <= k; c++) {
+    const dl = l >= 0 ? med - (w[l] as number) : Number.POSITIVE_INFINITY;
+    const dr = r < m ? (w[r] as number) - med : Number.POSITIVE_INFINITY;
+    prev = cur;
+    if (dl <= dr) {
+      cur = dl;
+      l--;
+    } else {
+      cur = dr;
+      r++;
     }
-    a[j + 1] = v;
   }
-  const k = m >> 1;
-  return m % 2 === 1 ? (a[k] as number) : ((a[k - 1] as number) + (a[k] as number)) / 2;
+  return even ? (prev + cur) / 2 : cur;
 }

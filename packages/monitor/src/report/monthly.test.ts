@@ -7,7 +7,13 @@ const HOUR = 3_600_000;
 const DAY = 86_400_000;
 
 /** A month of hourly results with constant efficiency, baseline and power. */
-function constantMachine(kind: 'turbine' | 'compressor', eta: number, etaB: number, powerW: number, hours: number) {
+function constantMachine(
+  kind: 'turbine' | 'compressor',
+  eta: number,
+  etaB: number,
+  powerW: number,
+  hours: number,
+) {
   const t0 = Date.UTC(2026, 2, 1);
   const t = Array.from({ length: hours }, (_, i) => t0 + i * HOUR);
   return {
@@ -113,7 +119,11 @@ describe('renderers', () => {
   });
 
   it('JSON parses back with ISO dates and the caution', () => {
-    const json = JSON.parse(renderReportJson(report)) as { from: string; caution: string; machines: { energyLostMWh: number }[] };
+    const json = JSON.parse(renderReportJson(report)) as {
+      from: string;
+      caution: string;
+      machines: { energyLostMWh: number }[];
+    };
     expect(json.from).toBe('2026-03-01T00:00:00.000Z');
     expect(json.caution).toBe(CAUTION);
     expect(json.machines[0]!.energyLostMWh).toBeCloseTo(70.857142857, 6);

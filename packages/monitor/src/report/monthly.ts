@@ -49,7 +49,9 @@ export interface MonthlyMachineInput {
   /** Alarm level of the drift [%-points], negative; undefined when no bands are set. */
   readonly alarmPts?: number | undefined;
   /** Previous month's mean efficiency [-] and mean drift [%-points], when known. */
-  readonly previous?: { readonly meanEfficiency: number | null; readonly driftPts: number | null } | undefined;
+  readonly previous?:
+    | { readonly meanEfficiency: number | null; readonly driftPts: number | null }
+    | undefined;
 }
 
 export interface MonthlyReportInput {
@@ -156,7 +158,11 @@ function machineReport(
   const { t, efficiency, baseline, power } = m.results;
   const n = t.length;
   if (efficiency.length !== n || baseline.length !== n || power.length !== n)
-    throw new MonitorBadInputError(`results of ${m.slug}`, n, 'efficiency, baseline and power must match t in length');
+    throw new MonitorBadInputError(
+      `results of ${m.slug}`,
+      n,
+      'efficiency, baseline and power must match t in length',
+    );
   const interval = m.intervalMs ?? medianSpacing(t);
   if (interval !== null && !(interval > 0))
     throw new MonitorBadInputError('intervalMs', interval, 'must be > 0');
@@ -190,11 +196,14 @@ function machineReport(
   const meanBaseline = nBase > 0 ? sumBase / nBase : null;
   const driftPts = nBase > 0 ? (100 * sumDrift) / nBase : null;
   const energyLostMWh = nEnergy > 0 ? energyJ / J_PER_MWH : null;
-  const coverage = interval === null ? (n > 0 ? Number.NaN : 0) : Math.min(1, (nEta * interval) / (toMs - fromMs));
+  const coverage =
+    interval === null ? (n > 0 ? Number.NaN : 0) : Math.min(1, (nEta * interval) / (toMs - fromMs));
 
   const prev = m.previous;
   const driftChangePts =
-    driftPts !== null && prev?.driftPts !== undefined && prev.driftPts !== null ? driftPts - prev.driftPts : null;
+    driftPts !== null && prev?.driftPts !== undefined && prev.driftPts !== null
+      ? driftPts - prev.driftPts
+      : null;
   const efficiencyChangePts =
     meanEfficiency !== null && prev?.meanEfficiency !== undefined && prev.meanEfficiency !== null
       ? 100 * (meanEfficiency - prev.meanEfficiency)
@@ -230,7 +239,13 @@ function machineReport(
     const f = d.forecast;
     forecast =
       f.status === 'forecast'
-        ? { status: 'forecast', atMs: f.atMs, earliestMs: finite(f.earliestMs), latestMs: finite(f.latestMs), text: 'Theil-Sen line reaches the alarm level' }
+        ? {
+            status: 'forecast',
+            atMs: f.atMs,
+            earliestMs: finite(f.earliestMs),
+            latestMs: finite(f.latestMs),
+            text: 'Theil-Sen line reaches the alarm level',
+          }
         : f.status === 'reached'
           ? { status: 'reached', atMs: finite(f.atMs), earliestMs: null, latestMs: null, text: f.reason }
           : { status: 'none', atMs: null, earliestMs: null, latestMs: null, text: f.text };

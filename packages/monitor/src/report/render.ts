@@ -135,7 +135,9 @@ export function driftChartSvg(m: MonthlyMachineReport, width = 640, height = 200
   const X = (t: number): number => pad.l + ((t - t0) / (t1 - t0)) * (width - pad.l - pad.r);
   const Y = (v: number): number => pad.t + ((y1 - v) / (y1 - y0)) * (height - pad.t - pad.b);
   const parts: string[] = [];
-  parts.push(`<line x1="${pad.l}" x2="${width - pad.r}" y1="${Y(0).toFixed(1)}" y2="${Y(0).toFixed(1)}" class="zero"/>`);
+  parts.push(
+    `<line x1="${pad.l}" x2="${width - pad.r}" y1="${Y(0).toFixed(1)}" y2="${Y(0).toFixed(1)}" class="zero"/>`,
+  );
   if (m.alarmPts !== null)
     parts.push(
       `<line x1="${pad.l}" x2="${width - pad.r}" y1="${Y(m.alarmPts).toFixed(1)}" y2="${Y(m.alarmPts).toFixed(1)}" class="alarm"/>`,
@@ -205,14 +207,19 @@ export function renderReportHtml(report: MonthlyReport): string {
     .join('');
   const sections = report.machines
     .map(
-      (m) => `<section data-machine="${esc(m.slug)}"><h2>${esc(m.name)} <span class="muted">(${esc(m.kind)}, ${esc(m.site)})</span></h2>
+      (
+        m,
+      ) => `<section data-machine="${esc(m.slug)}"><h2>${esc(m.name)} <span class="muted">(${esc(m.kind)}, ${esc(m.site)})</span></h2>
 <p>Daily drift against the baseline over the last ${report.rateWindowDays} days [points of efficiency], Theil-Sen line${m.alarmPts !== null ? ' and alarm level' : ''}.
 Rate ${esc(fmt(m.ratePtsPerMonth, 2) || '–')} points/month (95 % interval ${esc(fmt(m.rateLowPtsPerMonth, 2) || '–')} to ${esc(fmt(m.rateHighPtsPerMonth, 2) || '–')}).
 Forecast: ${esc(m.forecast.status === 'forecast' ? `alarm level reached about ${isoDate(m.forecast.atMs)} (between ${isoDate(m.forecast.earliestMs) || '?'} and ${isoDate(m.forecast.latestMs) || '?'})` : m.forecast.text)}</p>
 ${driftChartSvg(m)}</section>`,
     )
     .join('\n');
-  const totalCost = report.totals.cost === null ? '' : ` costing ${fmt(report.totals.cost, 0)} ${esc(cur)} at ${fmt(report.pricePerMWh, 2)} ${esc(cur)}/MWh`;
+  const totalCost =
+    report.totals.cost === null
+      ? ''
+      : ` costing ${fmt(report.totals.cost, 0)} ${esc(cur)} at ${fmt(report.pricePerMWh, 2)} ${esc(cur)}/MWh`;
   return `<!doctype html>
 <html lang="en"><head><meta charset="utf-8"><title>Degradation report ${esc(report.month)}</title>
 <link rel="icon" href="data:,"><style>${STYLE}</style></head>

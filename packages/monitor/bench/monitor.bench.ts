@@ -1,0 +1,80 @@
+/**
+ * Monitoring benchmarks (run with `npx tsx packages/monitor/bench/monitor.bench.ts`):
+ * - align + validate + steady state on one year of 1-minute data for one machine with 6 tags
+ *   (samples every 60 s with +-5 s jitter, invented values), in grid points per second;
+ * - Theil-Sen slope with Sen's interval on 365 daily points, in evaluations per second.
+ * One JSON line per figure on stdout.
+ */
+import { alignTags, type TagColumns } from '../src/align.js';
+import { theilSen } from '../src/degradation.js';
+import { detectSteadyState } from '../src/steady-state.js';
+import { seededNormal, seededRandom } from '../src/synthetic.js';
+import { validateAligned } from '../src/validate.js';
+
+const MIN = 60_000;
+const start = Date.UTC(2026, 0, 1);
+const points = 365 * 1440;
+const rnd = seededRandom(1);
+const z = seededNormal(2);
+
+const roles = ['p_in', 'T_in', 'p_out', 'T_out', 'flow', 'power'] as const;
+const means = [40e5, 700, 5e5, 450, 50, 40e6];
+const sds = [2e3, 0.3, 500, 0.3, 0.1, 5e4];
+const tags: TagColumns[] = roles.map((role, k) => {
+  const t = new Float64Array(points);
+  const value = new Float64Array(points);
+  const quality = new Uint8Array(points);
+  for (let i = 0; i < points; i++) {
+    t[i] = start + i * MIN + Math.round((rnd() - 0.5) * 10_000);
+    value[i] = means[k]! + sds[k]! * z() + (i % 600 < 30 ? (means[k]! * 0.05 * (i % 600)) / 30 : 0);
+    quality[i] = rnd() < 0.001 ? 2 : 0;
+  }
+  return { role, t, value, quality };
+});
+
+function once(): number {
+  const aligned = alignTags(tags, { startMs: start, endMs: start + points * MIN });
+  const validation = validateAligned(
+    aligned,
+    roles.map((role, k) => ({
+      role,
+      key: true,
+      min: 0,
+      max: means[k]! * 3,
+      stuck: { window: 30, minStd: sds[k]! * 0.01 },
+      spike: { halfWindow: 5, nSigma: 3 },
+    })),
+  );
+  const steady = detectSteadyState(
+    ['p_in', 'T_in', 'flow'].map((role) => ({ role, value: aligned.tags.get(role)!.value })),
+    { valid: validation.valid },
+  );
+  return steady.steadyCount;
+}
+
+once(); // warm-up
+const runs = 3;
+let sink = 0;
+const t0 = performance.now();
+for (let r = 0; r < runs; r++) sink += once();
+const seconds = (performance.now() - t0) / 1000 / runs;
+console.log(
+  JSON.stringify({
+    bench: 'monitor.align_validate_steady.year_1min_6tags',
+    value: points / seconds,
+    unit: 'points/s',
+  }),
+);
+console.log(
+  JSON.stringify({ bench: 'monitor.align_validate_steady.year_1min_6tags.time', value: seconds, unit: 's' }),
+);
+
+const days = Float64Array.from({ length: 365 }, (_, i) => start + i * 86_400_000);
+const drift = Float64Array.from(days, (_, i) => -0.016 * i + 0.1 * z());
+theilSen(days, drift);
+const m = 50;
+const t1 = performance.now();
+for (let r = 0; r < m; r++) sink += theilSen(days, drift).slope;
+const s2 = (performance.now() - t1) / 1000;
+console.log(JSON.stringify({ bench: 'monitor.theil_sen.365_daily', value: m / s2, unit: 'evals/s' }));
+if (!Number.isFinite(sink)) process.exitCode = 1;
