@@ -13,6 +13,8 @@ export const INGEST_ERROR_CODES = {
   INGEST_WRITE_FAILED: 'Writing samples to the database failed.',
   INGEST_OPCUA_CONNECT: 'Could not connect to the OPC UA endpoint.',
   INGEST_STOPPED: 'The ingest service was stopped.',
+  INGEST_UNAUTHORIZED: 'HTTP push without a valid bearer token (401).',
+  INGEST_BAD_BATCH: 'HTTP push body is not a JSON array of samples, or too large (400/413).',
 } as const;
 
 export type IngestErrorCode = keyof typeof INGEST_ERROR_CODES;

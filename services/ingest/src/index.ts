@@ -4,5 +4,7 @@ export type { CsvHandlers, CsvSummary, QuarantineEntry, QuarantineReason } from 
 export { parseCsv, parseQuality, parseValue } from './csv/parse.js';
 export { BUILT_IN_TIME_FORMATS, ZoneResolver } from './csv/time.js';
 export * from './errors.js';
-export * from './pg-sink.js';
+export * from './http.js';
+export * from './metrics.js';
+export * from './tags.js';
 export * from './types.js';

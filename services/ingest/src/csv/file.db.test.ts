@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
-import { loadTagLookup } from '../pg-sink.js';
+import { loadTagLookup } from '../tags.js';
 import { seedTags } from '../testing/seed.js';
 import type { TagLookup } from '../types.js';
 import { ingestCsvFile } from './file.js';

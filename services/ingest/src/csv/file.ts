@@ -11,9 +11,9 @@ import { createHash } from 'node:crypto';
 import { createReadStream } from 'node:fs';
 import { copyFile, mkdir, rename, stat, unlink, writeFile } from 'node:fs/promises';
 import { basename, dirname, join } from 'node:path';
+import { SampleWriter } from '@isentrope/store';
 import type pg from 'pg';
 import { IngestError } from '../errors.js';
-import { PgSampleSink } from '../pg-sink.js';
 import type { Sample, SampleSink, TagLookup } from '../types.js';
 import { type CsvFormatInput, csvFormatSchema } from './format.js';
 import { type CsvSummary, parseCsv, type QuarantineEntry } from './parse.js';
@@ -24,7 +24,7 @@ export interface IngestCsvFileOptions {
   readonly source: string;
   readonly tags: TagLookup;
   readonly format?: CsvFormatInput;
-  /** Default: a PgSampleSink on the pool. */
+  /** Default: the store's SampleWriter on the pool (one per file, closed at the end). */
   readonly sink?: SampleSink;
   /** Where files go when done; null leaves them in place. Default: "processed" beside the file. */
   readonly processedDir?: string | null;
@@ -113,7 +113,8 @@ export async function ingestCsvFile(
 ): Promise<IngestCsvFileResult> {
   const format = csvFormatSchema.parse(options.format ?? {});
   const { pool, source } = options;
-  const sink = options.sink ?? new PgSampleSink(pool);
+  const ownSink = options.sink === undefined;
+  const sink: SampleSink = options.sink ?? new SampleWriter(pool);
   const folder = dirname(path);
   const processedDir = options.processedDir === undefined ? join(folder, 'processed') : options.processedDir;
   const rejectedDir = options.rejectedDir === undefined ? join(folder, 'rejected') : options.rejectedDir;
@@ -172,6 +173,7 @@ export async function ingestCsvFile(
     );
     await sink.flush();
   } catch (error) {
+    if (ownSink) await sink.close?.().catch(() => {});
     if (!(error instanceof IngestError) || error.code !== 'INGEST_FILE_UNREADABLE') throw error;
     await pool.query(
       `UPDATE ingested_files SET status = 'failed', error = $2, finished_at = now() WHERE id = $1`,
@@ -187,6 +189,7 @@ export async function ingestCsvFile(
     }
     return { status: 'rejected', fileId, checksum, reason: error.message, movedTo };
   }
+  if (ownSink) await sink.close?.();
   await pool.query(
     `UPDATE ingested_files SET status = 'done', rows_total = $2, rows_stored = $3, rows_quarantined = $4, finished_at = now() WHERE id = $1`,
     [fileId, summary.rows, summary.samples, summary.quarantined],
