@@ -1,0 +1,221 @@
+import { describe, expect, it } from 'vitest';
+import { hsChart } from '../chart/index.js';
+import { dryAir, idealGasMixture, naturalGas } from '../gas/index.js';
+import { saturatedLiquid, saturatedVapour, saturationTemperature, water } from '../steam/index.js';
+import { evaluateMachineWithUncertainty, machineMonteCarlo } from '../uncertainty/index.js';
+import { evaluateMachine, polytropicEfficiencyIdealGas } from './index.js';
+import type { MachineInput } from './types.js';
+
+const C = 273.15;
+
+describe('steam turbine on IAPWS-IF97', () => {
+  // Cengel and Boles, Thermodynamics: An Engineering Approach, isentropic efficiency of a steam
+  // turbine example (from memory): 3 MPa, 400 degC to 50 kPa, 100 degC, 2 MW. Table values:
+  // h1 = 3231.7 kJ/kg, s1 = 6.9235 kJ/(kg K), h2a = 2682.4 kJ/kg, h2s = 2407.9 kJ/kg,
+  // eta_T = 0.667, mass flow 3.64 kg/s.
+  it('Cengel and Boles steam turbine example (from memory)', () => {
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: 400 + C },
+      outlet: { p: 50e3, T: 100 + C },
+      massFlow: 2e6 / (3231.7e3 - 2682.4e3),
+    });
+    expect(r.inlet.h / 1e3).toBeCloseTo(3231.7, 0);
+    expect(r.inlet.s / 1e3).toBeCloseTo(6.9235, 2);
+    expect(r.outlet.h / 1e3).toBeCloseTo(2682.4, 0);
+    expect(r.outletIsentropic.h / 1e3).toBeCloseTo(2407.9, 0);
+    expect(r.outletIsentropic.x).toBeDefined(); // the ideal outlet is inside the dome
+    expect(r.isentropicEfficiency).toBeCloseTo(0.667, 3);
+    expect(r.power! / 1e6).toBeCloseTo(2, 2);
+    expect(r.flags).toEqual([]);
+    expect(r.valid).toBe(true);
+  });
+
+  it('wet exhaust: h_out = h_in - P/m and the quality from the IF97 saturation line', () => {
+    const p2 = 10e3;
+    const m = 10;
+    const P = 8e6;
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: 400 + C },
+      outlet: { p: p2, T: saturationTemperature(p2) }, // a thermometer in wet steam reads saturation
+      massFlow: m,
+      shaftPower: P,
+    });
+    expect(r.flags).toContain('wet-outlet-energy-balance');
+    expect(r.outlet.h).toBeCloseTo(r.inlet.h - P / m, 6); // steady-flow energy balance, adiabatic casing
+    const hf = saturatedLiquid(p2).h;
+    const hg = saturatedVapour(p2).h;
+    expect(r.outlet.x).toBeCloseTo((r.inlet.h - P / m - hf) / (hg - hf), 9); // lever rule
+    // Steam tables at 10 kPa (from memory): hf = 191.81 kJ/kg, hfg = 2392.1 kJ/kg.
+    expect(r.outlet.x).toBeCloseTo((r.inlet.h / 1e3 - 800 - 191.81) / 2392.1, 3);
+    expect(r.isentropicEfficiency).toBeCloseTo(P / m / (r.inlet.h - r.outletIsentropic.h), 12);
+    expect(r.entropyGeneration!).toBeGreaterThan(0);
+    expect(r.valid).toBe(true);
+  });
+
+  it('wet exhaust without shaft power: undetermined, no efficiency', () => {
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: 400 + C },
+      outlet: { p: 10e3, T: saturationTemperature(10e3) + 1.5 }, // inside the 2 K margin
+      massFlow: 10,
+    });
+    expect(r.flags).toEqual(['outlet-undetermined']);
+    expect(r.isentropicEfficiency).toBeUndefined();
+    expect(r.specificWork).toBeUndefined();
+    expect(r.power).toBeUndefined();
+    expect(r.valid).toBe(false);
+  });
+
+  it('a turbine inlet below saturation is undetermined', () => {
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: saturationTemperature(3e6) - 5 },
+      outlet: { p: 10e3, T: 320 },
+    });
+    expect(r.flags).toContain('inlet-undetermined');
+    expect(r.isentropicEfficiency).toBeUndefined();
+  });
+
+  it('GUM and Monte Carlo agree within 10 % on a steam turbine', () => {
+    const input: MachineInput = {
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 10e6, T: 500 + C },
+      outlet: { p: 1e6, T: 250 + C },
+      massFlow: 50,
+    };
+    const u = {
+      'inlet.p': { kind: 'reading', percent: 0.25 },
+      'inlet.T': { kind: 'absolute', value: 1 },
+      'outlet.p': { kind: 'reading', percent: 0.25 },
+      'outlet.T': { kind: 'absolute', value: 1 },
+      massFlow: { kind: 'reading', percent: 1 },
+    } as const;
+    const gum = evaluateMachineWithUncertainty(input, u);
+    const mc = machineMonteCarlo(input, u, { trials: 4000, seed: 11 });
+    for (const key of ['isentropicEfficiency', 'specificWork', 'power', 'entropyGeneration'] as const) {
+      // JCGM 101:2008 section 8 (validation of the GUM framework by MC); 10 % is the project's acceptance.
+      expect(Math.abs(gum.uncertainty[key]! / mc[key]!.uncertainty - 1)).toBeLessThan(0.1);
+    }
+    expect(gum.result.isentropicEfficiency).toBeCloseTo(mc.isentropicEfficiency!.mean, 3);
+  });
+
+  it('h-s chart: the IF97 dome, isobars with slope T, straight inside the dome', () => {
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: 400 + C },
+      outlet: { p: 10e3, T: saturationTemperature(10e3) },
+      massFlow: 10,
+      shaftPower: 8e6,
+    });
+    const chart = hsChart(r, water);
+    expect(chart.dome).toBeDefined();
+    const dome = chart.dome!;
+    expect(dome.liquid.length).toBe(dome.vapour.length);
+    // Vapour line to the right of the liquid line at every pressure (s_g > s_f below the critical point).
+    for (let i = 0; i < dome.liquid.length; i++) expect(dome.vapour[i]!.s).toBeGreaterThan(dome.liquid[i]!.s);
+    const tsat = saturationTemperature(10e3);
+    const domeSlopes: number[] = [];
+    for (const isobar of [chart.inletIsobar, chart.outletIsobar]) {
+      expect(isobar.points.length).toBeGreaterThan(10);
+      for (let i = 1; i < isobar.points.length; i++) {
+        const a = isobar.points[i - 1]!;
+        const b = isobar.points[i]!;
+        const slope = (b.h - a.h) / (b.s - a.s);
+        // dh = T ds at constant p (Gibbs relation); the secant slope lies between the ends' T. 1e-5
+        // leaves room for IF97's small inconsistency where region 4 meets region 2 (R7-97(2012) sec. 5).
+        expect(slope).toBeGreaterThanOrEqual(Math.min(a.T, b.T) * (1 - 1e-5));
+        expect(slope).toBeLessThanOrEqual(Math.max(a.T, b.T) * (1 + 1e-5));
+        if (a.T === tsat && b.T === tsat) {
+          // Straight in the dome with slope h_fg/s_fg = T_sat (Clapeyron); IF97's regions 1 and 2 meet the
+          // saturation line with Gibbs energies equal only to about 1e-6, hence the tolerance.
+          expect(Math.abs(slope / tsat - 1)).toBeLessThan(1e-5);
+          domeSlopes.push(slope);
+        }
+      }
+    }
+    expect(domeSlopes.length).toBeGreaterThan(10);
+    // One straight line: every in-dome secant has the same slope (lever rule, h and s linear in x).
+    expect(Math.max(...domeSlopes) / Math.min(...domeSlopes) - 1).toBeLessThan(1e-9);
+    expect(chart.actualPath.at(-1)!.h).toBeCloseTo(r.outlet.h, 0);
+    expect(chart.outlet!.h).toBe(r.outlet.h);
+  });
+});
+
+describe('water pump on IAPWS-IF97', () => {
+  it('Cengel and Boles Rankine pump (from memory): 75 kPa saturated liquid to 3 MPa, w = 3.03 kJ/kg', () => {
+    const T1 = saturationTemperature(75e3) - 0.05; // just below saturation: p and T fix a liquid
+    const r = evaluateMachine({
+      kind: 'pump',
+      fluid: water,
+      inlet: { p: 75e3, T: T1 },
+      outlet: { p: 3e6, T: T1 + 0.2 },
+    });
+    expect(r.isentropicSpecificWork / 1e3).toBeCloseTo(3.03, 2);
+    // A liquid is nearly incompressible: w_s = integral v dp is within 0.2 % of v1 dp (common practice, no source).
+    expect(r.isentropicSpecificWork / (r.inlet.v * (3e6 - 75e3)) - 1).toBeLessThan(2e-3);
+    expect(r.head).toBeCloseTo(((3e6 - 75e3) * r.inlet.v) / 9.80665, 9);
+    expect(r.thermodynamicEfficiency!).toBeGreaterThan(0);
+    expect(r.thermodynamicEfficiency!).toBeLessThan(1);
+  });
+});
+
+describe('gas compressors on the gas models', () => {
+  // Cengel and Boles, isentropic efficiency of an air compressor example (from memory): air from
+  // 100 kPa, 285 K to 800 kPa, 0.2 kg/s, eta_C = 0.80, air tables: h1 = 285.14 kJ/kg,
+  // h2s = 517.05 kJ/kg, h2a = 575.03 kJ/kg, T2a = 569.5 K, power 58.0 kW.
+  it('Cengel and Boles air compressor example on dry air (NASA polynomials), from memory', () => {
+    const r = evaluateMachine({
+      kind: 'compressor',
+      fluid: dryAir(),
+      inlet: { p: 100e3, T: 285 },
+      outlet: { p: 800e3, T: 569.5 },
+      massFlow: 0.2,
+    });
+    expect(r.isentropicSpecificWork / 1e3).toBeCloseTo(517.05 - 285.14, -1); // within 5 kJ/kg
+    expect(Math.abs(r.isentropicEfficiency! - 0.8)).toBeLessThan(0.01);
+    expect(Math.abs(r.power! / 1e3 - 58.0)).toBeLessThan(0.6); // 1 %
+    expect(r.valid).toBe(true);
+  });
+
+  it('Schultz and the logarithmic form agree for an ideal gas with near-constant cp (common practice, no source)', () => {
+    // Nitrogen 1 -> 2 bar from 300 K: cp varies by < 0.3 %, so the forms agree to about 1e-3.
+    const n2 = idealGasMixture({ N2: 1 });
+    const r = evaluateMachine({
+      kind: 'compressor',
+      fluid: n2,
+      inlet: { p: 1e5, T: 300 },
+      outlet: { p: 2e5, T: 380 },
+    });
+    const cpMean = (r.outlet.h - r.inlet.h) / (380 - 300);
+    const k = cpMean / (cpMean - n2.R);
+    expect(
+      Math.abs(r.polytropicEfficiency! - polytropicEfficiencyIdealGas(1e5, 300, 2e5, 380, k)),
+    ).toBeLessThan(2e-3);
+    expect(r.schultzFactor).toBeCloseTo(1, 2);
+  });
+
+  it('natural gas on Peng-Robinson: a real-gas compression with a Schultz factor near 1', () => {
+    const gas = naturalGas({ CH4: 0.9, C2H6: 0.06, C3H8: 0.02, N2: 0.01, CO2: 0.01 }, 'peng-robinson');
+    const r = evaluateMachine({
+      kind: 'compressor',
+      fluid: gas,
+      inlet: { p: 40e5, T: 293.15 },
+      outlet: { p: 70e5, T: 340 },
+      massFlow: 30,
+    });
+    expect(r.isentropicEfficiency!).toBeGreaterThan(0.6);
+    expect(r.isentropicEfficiency!).toBeLessThan(1);
+    // ASME PTC 10: f departs little from 1 for moderate pressure ratios (common practice, no source).
+    expect(Math.abs(r.schultzFactor! - 1)).toBeLessThan(0.02);
+    expect(r.polytropicEfficiency!).toBeGreaterThan(r.isentropicEfficiency!);
+    expect(r.valid).toBe(true);
+  });
+});
