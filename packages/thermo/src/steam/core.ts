@@ -126,6 +126,20 @@ export function enthalpyChecked(p: number, T: number): number {
   return hFromGT(T);
 }
 
+/** Specific enthalpy [J/kg] and entropy [J/(kg K)] at a checked (p [Pa], T [K]) into out[0], out[1]. */
+export function enthalpyEntropyChecked(p: number, T: number, out: Float64Array): void {
+  const region = regionPT(p, T);
+  if (region === 3) {
+    density3PT(p, T);
+    out[0] = h3FromF3(T);
+    out[1] = s3FromF3();
+    return;
+  }
+  gibbsTau(region, p, T);
+  out[0] = hFromGT(T);
+  out[1] = sFromGT();
+}
+
 /** Specific entropy [J/(kg K)] at a checked (p [Pa], T [K]). */
 export function entropyChecked(p: number, T: number): number {
   const region = regionPT(p, T);
@@ -277,6 +291,15 @@ function rangeError(given: Given, value: number, min: number, max: number, p: nu
   );
 }
 
+/** Throws when value lies below the 273.15 K state at p (liquid above the triple-point pressure, vapour below). */
+function checkLowest(given: Given, p: number, value: number, lowRegion: 1 | 2): void {
+  const vMin = valueGibbs(given, lowRegion, p, T_MIN);
+  if (value < vMin) {
+    const vMax = p <= P_MAX_5 ? valueGibbs(given, 5, p, T_MAX_5) : valueGibbs(given, 2, p, T_MAX_2);
+    throw rangeError(given, value, vMin, vMax, p);
+  }
+}
+
 /**
  * Solves (p, h) (given 0) or (p, s) (given 1) for region, T, quality and region-3 density
  * into outRegion, outT, outX, outRho. p [Pa] must be checked. Throws OutOfRangeError when the
@@ -284,14 +307,10 @@ function rangeError(given: Given, value: number, min: number, max: number, p: nu
  */
 export function solveP(given: Given, p: number, value: number): void {
   outX = 0;
-  // Lowest state: 273.15 K, liquid above the triple-point pressure, vapour below it.
-  const lowRegion = p >= P_SAT_MIN ? 1 : 2;
-  const vMin = valueGibbs(given, lowRegion, p, T_MIN);
-  if (value < vMin) {
-    const vMax = p <= P_MAX_5 ? valueGibbs(given, 5, p, T_MAX_5) : valueGibbs(given, 2, p, T_MAX_2);
-    throw rangeError(given, value, vMin, vMax, p);
-  }
+  outOther = Number.NaN;
+  if (p >= P_SAT_MIN && p <= P_SAT_623 && solveSubcriticalFast(given, p, value)) return;
   if (p < P_SAT_MIN) {
+    checkLowest(given, p, value, 2);
     solveVapourSide(given, p, value, T_MIN);
     return;
   }
@@ -300,6 +319,7 @@ export function solveP(given: Given, p: number, value: number): void {
     saturation(p);
     const vL = given === 0 ? satHL : satSL;
     if (value <= vL) {
+      checkLowest(given, p, value, 1);
       outRegion = 1;
       outT = newtonGibbs(given, 1, p, value, backward(given, 1, p, value), T_MIN, satT);
       return;
@@ -317,6 +337,7 @@ export function solveP(given: Given, p: number, value: number): void {
   // Above psat(623.15 K): region 1 up to 623.15 K, region 3 up to the B23 line, then region 2.
   const v13 = valueGibbs(given, 1, p, T_13);
   if (value <= v13) {
+    checkLowest(given, p, value, 1);
     outRegion = 1;
     outT = newtonGibbs(given, 1, p, value, backward(given, 1, p, value), T_MIN, T_13);
     return;
@@ -349,6 +370,87 @@ export function solveP(given: Given, p: number, value: number): void {
   outT = newtonRegion3(given, p, value, backward(given, 3, p, value), T_13, t23);
 }
 
+/**
+ * The other property of the last fast solution: h [J/kg] when s was given, s [J/(kg K)] when
+ * h was given; NaN when the general path ran.
+ */
+export let outOther = Number.NaN;
+
+/**
+ * Speculative Newton in one Gibbs region from the backward-equation guess T0 [K]: pure Newton
+ * steps that must stay strictly inside (lo, hi). Returns the converged T, or NaN when a step
+ * leaves the bracket or 8 steps do not converge (the caller then takes the general path).
+ * Sets outOther at the converged T, corrected to first order (dh = T ds at constant p).
+ */
+function tryNewton(
+  given: Given,
+  region: number,
+  p: number,
+  target: number,
+  T0: number,
+  lo: number,
+  hi: number,
+): number {
+  let T = T0;
+  for (let k = 0; k < 8; k++) {
+    gibbsTau(region, p, T);
+    const h = hFromGT(T);
+    const s = sFromGT();
+    const cp = cpFromGT();
+    const residual = target - (given === 0 ? h : s);
+    const step = given === 0 ? residual / cp : (residual * T) / cp;
+    const next = T + step;
+    if (!(next > lo && next < hi)) return Number.NaN;
+    if (Math.abs(step) <= 1e-9 * T) {
+      outOther = given === 0 ? s + residual / T : h + T * residual;
+      return next;
+    }
+    T = next;
+  }
+  return Number.NaN;
+}
+
+/**
+ * Fast path between the triple point and psat(623.15 K): try region 2 above Tsat and region 1
+ * below it from the backward equations. A Newton solution strictly inside the region's
+ * temperature range is the state (h and s rise with T along an isobar, so it is unique);
+ * otherwise the general path decides (wet states, edges of the range).
+ */
+function solveSubcriticalFast(given: Given, p: number, value: number): boolean {
+  const Ts = tsat(p);
+  // Try the likelier region first (below the critical h or s: liquid); the order only saves time.
+  const liquidFirst = given === 0 ? value < 2.087e6 : value < 4.412e3;
+  if (
+    liquidFirst
+      ? tryRegion1(given, p, value, Ts) || tryRegion2(given, p, value, Ts)
+      : tryRegion2(given, p, value, Ts) || tryRegion1(given, p, value, Ts)
+  ) {
+    return true;
+  }
+  outOther = Number.NaN;
+  return false;
+}
+
+function tryRegion2(given: Given, p: number, value: number, Ts: number): boolean {
+  const T2 = backward(given, 2, p, value);
+  if (!(T2 > Ts && T2 < T_MAX_2)) return false;
+  const T = tryNewton(given, 2, p, value, T2, Ts, T_MAX_2);
+  if (!(T > Ts && T < T_MAX_2)) return false;
+  outRegion = 2;
+  outT = T;
+  return true;
+}
+
+function tryRegion1(given: Given, p: number, value: number, Ts: number): boolean {
+  const T1 = backward(given, 1, p, value);
+  if (!(T1 < Ts && T1 > T_MIN)) return false;
+  const T = tryNewton(given, 1, p, value, T1, T_MIN, Ts);
+  if (!(T > T_MIN && T < Ts)) return false;
+  outRegion = 1;
+  outT = T;
+  return true;
+}
+
 /** Region 2 from Tlow [K] up to 1073.15 K, then region 5 (up to 50 MPa) for (p, h) or (p, s). */
 function solveVapourSide(given: Given, p: number, value: number, Tlow: number): void {
   const v2max = valueGibbs(given, 2, p, T_MAX_2);
@@ -374,6 +476,7 @@ function solveVapourSide(given: Given, p: number, value: number, Tlow: number): 
 
 /** Specific enthalpy [J/kg] of the state found by the last solveP at p [Pa]. */
 export function enthalpyOfSolution(p: number): number {
+  if (!Number.isNaN(outOther)) return outOther;
   if (outRegion === 4) return satHL + outX * (satHV - satHL);
   if (outRegion === 3) {
     helmholtz3(outRho, outT);

@@ -7,6 +7,7 @@ import {
   checkPT,
   density3PT,
   enthalpyChecked,
+  enthalpyEntropyChecked,
   enthalpyOfSolution,
   entropyChecked,
   gibbsFull,
@@ -217,6 +218,15 @@ export function saturatedVapour(p: number): WaterProperties {
 export function enthalpyPT(p: number, T: number): number {
   checkPT(p, T);
   return enthalpyChecked(p, T);
+}
+
+/**
+ * Specific enthalpy [J/kg] into out[0] and specific entropy [J/(kg K)] into out[1] at p [Pa],
+ * T [K] from one evaluation of the basic equation; no allocation (out has length >= 2).
+ */
+export function enthalpyEntropyPT(p: number, T: number, out: Float64Array): void {
+  checkPT(p, T);
+  enthalpyEntropyChecked(p, T, out);
 }
 
 /** Specific entropy [J/(kg K)] at p [Pa], T [K]; no allocation. */

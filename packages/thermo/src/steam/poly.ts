@@ -10,6 +10,9 @@ export interface PolyTable {
   readonly I: Int32Array;
   readonly J: Int32Array;
   readonly n: Float64Array;
+  /** n_k J_k and n_k J_k (J_k - 1), precomputed for the tau derivatives. */
+  readonly nJ: Float64Array;
+  readonly nJJ: Float64Array;
   readonly iMin: number;
   readonly iMax: number;
   readonly jMin: number;
@@ -32,6 +35,8 @@ export function polyTable(I: readonly number[], J: readonly number[], n: readonl
     I: Int32Array.from(I),
     J: Int32Array.from(J),
     n: Float64Array.from(n),
+    nJ: Float64Array.from(n, (v, k) => v * J[k]!),
+    nJJ: Float64Array.from(n, (v, k) => v * J[k]! * (J[k]! - 1)),
     iMin,
     iMax: Math.max(...I),
     jMin,
@@ -117,17 +122,16 @@ export function poly2Derivatives(t: PolyTable, x: number, y: number, out: Float6
 export function poly2YDerivatives(t: PolyTable, x: number, y: number, out: Float64Array): void {
   fillPowers(XP, x, t.iMin, t.iMax);
   fillPowers(YP, y, t.jMin, t.jMax);
-  const { I, J, n, iMin, jMin, size } = t;
+  const { I, J, n, nJ, nJJ, iMin, jMin, size } = t;
   let f = 0;
   let fy = 0;
   let fyy = 0;
   for (let k = 0; k < size; k++) {
-    const j = J[k]!;
-    const yj = j - jMin;
-    const a = n[k]! * XP[I[k]! - iMin]!;
-    f += a * YP[yj]!;
-    fy += a * j * YP[yj - 1]!;
-    fyy += a * j * (j - 1) * YP[yj - 2]!;
+    const yj = J[k]! - jMin;
+    const x = XP[I[k]! - iMin]!;
+    f += n[k]! * x * YP[yj]!;
+    fy += nJ[k]! * x * YP[yj - 1]!;
+    fyy += nJJ[k]! * x * YP[yj - 2]!;
   }
   out[0] = f;
   out[1] = fy;
