@@ -73,7 +73,7 @@ export interface AlignedTag {
   /** ALIGN_* bit mask per grid point. */
   readonly flags: Uint8Array;
   /** Bad-quality samples excluded, per grid point (samples before the grid are not counted). */
-  readonly badCount: Uint16Array;
+  readonly badCount: Uint32Array;
   /** Bad-quality samples excluded in total within the grid. */
   readonly badTotal: number;
 }
@@ -170,7 +170,7 @@ function alignOne(
   const sum = new Float64Array(n); // integral of value dt over covered time [SI x ms]
   const covered = new Float64Array(n); // covered time [ms]
   const flags = new Uint8Array(n);
-  const badCount = new Uint16Array(n);
+  const badCount = new Uint32Array(n);
   // Newest good-sample time at or before each interval end, for the stale test.
   const lastGood = new Float64Array(n).fill(Number.NEGATIVE_INFINITY);
   let badTotal = 0;
@@ -188,7 +188,7 @@ function alignOne(
     if (isBad) {
       if (iAt >= 0 && iAt < n) {
         badTotal++;
-        if ((badCount[iAt] as number) < 65_535) badCount[iAt] = (badCount[iAt] as number) + 1;
+        badCount[iAt] = (badCount[iAt] as number) + 1;
         flags[iAt] = (flags[iAt] as number) | ALIGN_BAD_EXCLUDED;
       }
       continue;
