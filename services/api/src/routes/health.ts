@@ -22,6 +22,7 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
   app.get(
     '/health',
     {
+      config: { role: 'public' },
       schema: { tags: ['health'], summary: 'Service and database health', response: { 200: healthResponse } },
     },
     async () => {
@@ -62,6 +63,7 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
   app.get(
     '/ready',
     {
+      config: { role: 'public' },
       schema: {
         tags: ['health'],
         summary: 'Ready to serve: database reachable',

@@ -1,0 +1,53 @@
+import type pg from 'pg';
+import type { Principal } from './auth/roles.js';
+
+export interface AuditEntry {
+  readonly actor: Principal | string;
+  /** Verb, e.g. 'alert.acknowledge', 'token.create'. */
+  readonly action: string;
+  readonly entity: string;
+  readonly entityId?: string | number | undefined;
+  readonly before?: unknown;
+  readonly after?: unknown;
+}
+
+type Queryable = Pick<pg.Pool | pg.PoolClient, 'query'>;
+
+function actorName(actor: Principal | string): string {
+  if (typeof actor === 'string') return actor;
+  return actor.kind === 'token' ? `${actor.username} (token ${actor.credentialId ?? '?'})` : actor.username;
+}
+
+/** Append one row to audit_log (who, when, what, before and after); run in the write's own transaction. */
+export async function appendAudit(db: Queryable, entry: AuditEntry): Promise<void> {
+  await db.query(
+    `INSERT INTO audit_log (actor, action, entity, entity_id, before, after) VALUES ($1, $2, $3, $4, $5, $6)`,
+    [
+      actorName(entry.actor),
+      entry.action,
+      entry.entity,
+      entry.entityId === undefined ? null : String(entry.entityId),
+      entry.before === undefined ? null : JSON.stringify(entry.before),
+      entry.after === undefined ? null : JSON.stringify(entry.after),
+    ],
+  );
+}
+
+/** Run `work` in one transaction on a pooled client. */
+export async function inTransaction<T>(
+  pool: pg.Pool,
+  work: (client: pg.PoolClient) => Promise<T>,
+): Promise<T> {
+  const client = await pool.connect();
+  try {
+    await client.query('BEGIN');
+    const out = await work(client);
+    await client.query('COMMIT');
+    return out;
+  } catch (error) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw error;
+  } finally {
+    client.release();
+  }
+}

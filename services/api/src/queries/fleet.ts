@@ -1,0 +1,89 @@
+import type pg from 'pg';
+
+/** Window of the "current" figures, ending at the machine's newest result [ms]: one hour (common practice, no source). */
+export const CURRENT_WINDOW_MS = 3_600_000;
+/** Window of the data-health figures, ending now [ms]. */
+export const HEALTH_WINDOW_MS = 86_400_000;
+
+export interface FleetRow {
+  id: number;
+  site_slug: string;
+  slug: string;
+  name: string;
+  kind: 'turbine' | 'compressor' | 'pump' | 'fan';
+  out_of_service: boolean;
+  retired_at: Date | null;
+  last_time: Date | null;
+  last_valid_time: Date | null;
+  eff: number | null;
+  u_eff: number | null;
+  n_current: number;
+  x: number | null;
+  power: number | null;
+  baseline: number | null;
+  drift: number | null;
+  n_health: number;
+  n_health_valid: number;
+  last_flags: string[] | null;
+  warning: number | null;
+  alarm: number | null;
+  open_alerts: number;
+  baseline_id: number | null;
+}
+
+/**
+ * One row per machine for the fleet page: the mean efficiency over the hour before its newest
+ * valid result, the baseline and drift over the same results (baseline evaluated per result),
+ * data health over the last day, open alerts and bands. One statement, one round trip.
+ */
+export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[]> {
+  const { rows } = await pool.query<FleetRow>(
+    `SELECT m.id, s.slug AS site_slug, m.slug, m.name, m.kind, m.out_of_service, m.retired_at,
+            lr.time AS last_time, lv.time AS last_valid_time,
+            cur.eff, cur.u_eff, coalesce(cur.n, 0) AS n_current, cur.x, cur.power, cur.baseline, cur.drift,
+            coalesce(h.n, 0) AS n_health, coalesce(h.n_valid, 0) AS n_health_valid, lr.flags AS last_flags,
+            bd.warning, bd.alarm,
+            (SELECT count(*)::int FROM alerts a WHERE a.machine_id = m.id AND a.state <> 'normal') AS open_alerts,
+            b.id::int AS baseline_id
+       FROM machines m
+       JOIN sites s ON s.id = m.site_id
+       LEFT JOIN baselines b ON b.machine_id = m.id AND b.active
+       LEFT JOIN bands bd ON bd.machine_id = m.id
+       LEFT JOIN LATERAL (SELECT time, flags FROM results r WHERE r.machine_id = m.id ORDER BY time DESC LIMIT 1) lr ON true
+       LEFT JOIN LATERAL (SELECT time FROM results r WHERE r.machine_id = m.id AND r.valid ORDER BY time DESC LIMIT 1) lv ON true
+       LEFT JOIN LATERAL (
+         SELECT avg(r.efficiency) AS eff,
+                sqrt(avg(r.u_efficiency * r.u_efficiency)) AS u_eff,
+                count(r.efficiency)::int AS n,
+                avg(r.operating_point) AS x,
+                avg(r.power) AS power,
+                avg(bx.v) AS baseline,
+                100 * avg(r.efficiency - bx.v) AS drift
+           FROM results r
+           CROSS JOIN LATERAL (
+             SELECT CASE WHEN b.id IS NOT NULL AND cardinality(b.coefficients) BETWEEN 1 AND 4 THEN
+                      coalesce(b.coefficients[1], 0) + coalesce(b.coefficients[2], 0) * r.operating_point
+                      + coalesce(b.coefficients[3], 0) * r.operating_point ^ 2
+                      + coalesce(b.coefficients[4], 0) * r.operating_point ^ 3 END AS v) bx
+          WHERE r.machine_id = m.id AND r.valid AND lv.time IS NOT NULL
+            AND r.time > lv.time - make_interval(secs => $1::float8 / 1000) AND r.time <= lv.time
+       ) cur ON true
+       LEFT JOIN LATERAL (
+         SELECT count(*)::int AS n, count(*) FILTER (WHERE r.valid)::int AS n_valid
+           FROM results r WHERE r.machine_id = m.id AND r.time > to_timestamp($2::float8 / 1000) - make_interval(secs => $3::float8 / 1000)
+       ) h ON true
+      ORDER BY s.slug, m.slug`,
+    [CURRENT_WINDOW_MS, nowMs, HEALTH_WINDOW_MS],
+  );
+  return rows;
+}
+
+export type BandState = 'normal' | 'warning' | 'alarm' | 'unknown';
+
+/** Where a drift [%-points, negative = loss] lies against the bands (levels are positive losses). */
+export function bandState(driftPts: number | null, warning: number | null, alarm: number | null): BandState {
+  if (driftPts === null || !Number.isFinite(driftPts) || alarm === null) return 'unknown';
+  if (driftPts <= -alarm) return 'alarm';
+  if (warning !== null && driftPts <= -warning) return 'warning';
+  return 'normal';
+}

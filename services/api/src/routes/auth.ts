@@ -1,0 +1,345 @@
+import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
+import { z } from 'zod';
+import type { ApiContext } from '../app.js';
+import { appendAudit, inTransaction } from '../audit.js';
+import {
+  checkLogin,
+  createSession,
+  endSession,
+  newSecret,
+  SESSION_TTL_MS,
+  sha256Hex,
+  TOKEN_PREFIX,
+} from '../auth/credentials.js';
+import { hashPassword } from '../auth/passwords.js';
+import { SESSION_COOKIE } from '../auth/plugin.js';
+import { hasRole, ROLES } from '../auth/roles.js';
+import { ApiError } from '../errors.js';
+import { errorResponses, idParam, problemSchema } from '../http/schemas.js';
+
+const meSchema = z.object({
+  kind: z.enum(['user', 'token', 'anonymous']),
+  username: z.string(),
+  role: z.enum(ROLES),
+});
+
+const tokenSchema = z.object({
+  id: z.number().int(),
+  name: z.string(),
+  username: z.string(),
+  prefix: z.string(),
+  role: z.enum(ROLES).nullable().describe("Role limit of the token; null = the user's role"),
+  createdAt: z.string(),
+  expiresAt: z.string().nullable(),
+  lastUsedAt: z.string().nullable(),
+  revokedAt: z.string().nullable(),
+});
+
+const userSchema = z.object({
+  id: z.number().int(),
+  username: z.string(),
+  displayName: z.string().nullable(),
+  role: z.enum(ROLES),
+  disabled: z.boolean(),
+  createdAt: z.string(),
+});
+
+export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  app.post(
+    '/auth/login',
+    {
+      // Stricter limit on password guessing (common practice, no source).
+      config: { role: 'public', rateLimit: { max: 20, timeWindow: 60_000 } },
+      schema: {
+        tags: ['auth'],
+        summary: 'Sign in; sets an httpOnly SameSite=Strict session cookie',
+        body: z.object({ username: z.string().min(1).max(100), password: z.string().min(1).max(1000) }),
+        response: { 200: meSchema, 401: problemSchema, 400: problemSchema },
+      },
+    },
+    async (request, reply) => {
+      const user = await checkLogin(ctx.pool, request.body.username, request.body.password);
+      const secret = await createSession(ctx.pool, user.id);
+      await appendAudit(ctx.pool, {
+        actor: user.username,
+        action: 'session.login',
+        entity: 'user',
+        entityId: user.id,
+      });
+      reply.setCookie(SESSION_COOKIE, secret, {
+        httpOnly: true,
+        sameSite: 'strict',
+        secure: ctx.cookieSecure ?? false,
+        path: '/',
+        maxAge: SESSION_TTL_MS / 1000,
+      });
+      return { kind: 'user' as const, username: user.username, role: user.role };
+    },
+  );
+
+  app.post(
+    '/auth/logout',
+    {
+      config: { role: 'public' },
+      schema: { tags: ['auth'], summary: 'Sign out (ends the session)', response: { 204: z.null() } },
+    },
+    async (request, reply) => {
+      const secret = request.cookies[SESSION_COOKIE];
+      if (secret !== undefined && secret !== '') await endSession(ctx.pool, secret);
+      reply.clearCookie(SESSION_COOKIE, { path: '/' });
+      return reply.code(204).send(null);
+    },
+  );
+
+  app.get(
+    '/auth/me',
+    {
+      config: { role: 'public' },
+      schema: {
+        tags: ['auth'],
+        summary: 'Who is calling (401 when nobody)',
+        response: { 200: meSchema, 401: problemSchema },
+      },
+    },
+    async (request) => {
+      const p = request.principal;
+      if (p === undefined) throw new ApiError('API_UNAUTHENTICATED');
+      return { kind: p.kind, username: p.username, role: p.role };
+    },
+  );
+
+  // Tokens and users: administrators only.
+  app.get(
+    '/tokens',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: 'API tokens (never their secrets)',
+        response: { 200: z.object({ items: z.array(tokenSchema) }), ...errorResponses },
+      },
+    },
+    async () => {
+      const { rows } = await ctx.pool.query<{
+        id: number;
+        name: string;
+        username: string;
+        prefix: string;
+        scopes: string[];
+        created_at: Date;
+        expires_at: Date | null;
+        last_used_at: Date | null;
+        revoked_at: Date | null;
+      }>(
+        `SELECT t.id, t.name, u.username, t.prefix, t.scopes, t.created_at, t.expires_at, t.last_used_at, t.revoked_at
+           FROM api_tokens t JOIN users u ON u.id = t.user_id WHERE NOT ('session' = ANY (t.scopes)) ORDER BY t.id`,
+      );
+      return {
+        items: rows.map((t) => {
+          const r = t.scopes.find((s) => s.startsWith('role:'))?.slice(5);
+          return {
+            id: t.id,
+            name: t.name,
+            username: t.username,
+            prefix: t.prefix,
+            role: (ROLES as readonly string[]).includes(r ?? '') ? (r as (typeof ROLES)[number]) : null,
+            createdAt: t.created_at.toISOString(),
+            expiresAt: t.expires_at?.toISOString() ?? null,
+            lastUsedAt: t.last_used_at?.toISOString() ?? null,
+            revokedAt: t.revoked_at?.toISOString() ?? null,
+          };
+        }),
+      };
+    },
+  );
+
+  app.post(
+    '/tokens',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: 'Create an API token; the secret is in this answer only (stored as a SHA-256 hash)',
+        body: z.object({
+          name: z.string().min(1).max(100),
+          username: z
+            .string()
+            .min(1)
+            .max(100)
+            .optional()
+            .describe('User the token acts for; default: the caller'),
+          role: z.enum(ROLES).optional().describe("Lower the token's role below its user's"),
+          expiresInDays: z.number().positive().max(3650).optional(),
+        }),
+        response: { 201: tokenSchema.extend({ token: z.string() }), ...errorResponses },
+      },
+    },
+    async (request, reply) => {
+      const b = request.body;
+      const actor = request.principal!;
+      const username = b.username ?? actor.username;
+      const { rows: users } = await ctx.pool.query<{ id: number; role: (typeof ROLES)[number] }>(
+        `SELECT id, role FROM users WHERE username = $1 AND disabled_at IS NULL`,
+        [username],
+      );
+      const user = users[0];
+      if (user === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'user', id: username });
+      if (b.role !== undefined && !hasRole(user.role, b.role))
+        throw new ApiError('API_CONFLICT', {
+          entity: 'token for',
+          id: username,
+          reason: `a token cannot exceed its user's role ${user.role}`,
+        });
+      const secret = newSecret(TOKEN_PREFIX);
+      const expires =
+        b.expiresInDays === undefined ? null : new Date(ctx.now() + b.expiresInDays * 86_400_000);
+      const row = await inTransaction(ctx.pool, async (client) => {
+        const { rows } = await client.query<{ id: number; created_at: Date }>(
+          `INSERT INTO api_tokens (user_id, name, token_hash, prefix, scopes, expires_at)
+           VALUES ($1, $2, $3, $4, $5, $6) RETURNING id, created_at`,
+          [
+            user.id,
+            b.name,
+            sha256Hex(secret),
+            secret.slice(0, 10),
+            b.role === undefined ? [] : [`role:${b.role}`],
+            expires,
+          ],
+        );
+        const created = rows[0]!;
+        await appendAudit(client, {
+          actor,
+          action: 'token.create',
+          entity: 'api_token',
+          entityId: created.id,
+          after: { name: b.name, username, role: b.role ?? null, expiresAt: expires?.toISOString() ?? null },
+        });
+        return created;
+      });
+      return reply.code(201).send({
+        id: row.id,
+        name: b.name,
+        username,
+        prefix: secret.slice(0, 10),
+        role: b.role ?? null,
+        createdAt: row.created_at.toISOString(),
+        expiresAt: expires?.toISOString() ?? null,
+        lastUsedAt: null,
+        revokedAt: null,
+        token: secret,
+      });
+    },
+  );
+
+  app.delete(
+    '/tokens/:id',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: 'Revoke an API token',
+        params: idParam,
+        response: { 204: z.null(), ...errorResponses },
+      },
+    },
+    async (request, reply) => {
+      const actor = request.principal!;
+      await inTransaction(ctx.pool, async (client) => {
+        const { rowCount } = await client.query(
+          `UPDATE api_tokens SET revoked_at = now() WHERE id = $1 AND revoked_at IS NULL AND NOT ('session' = ANY (scopes))`,
+          [request.params.id],
+        );
+        if (rowCount === 0)
+          throw new ApiError('API_NOT_FOUND', { entity: 'active token', id: request.params.id });
+        await appendAudit(client, {
+          actor,
+          action: 'token.revoke',
+          entity: 'api_token',
+          entityId: request.params.id,
+        });
+      });
+      return reply.code(204).send(null);
+    },
+  );
+
+  app.get(
+    '/users',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: 'Users',
+        response: { 200: z.object({ items: z.array(userSchema) }), ...errorResponses },
+      },
+    },
+    async () => {
+      const { rows } = await ctx.pool.query<{
+        id: number;
+        username: string;
+        display_name: string | null;
+        role: (typeof ROLES)[number];
+        disabled_at: Date | null;
+        created_at: Date;
+      }>(`SELECT id, username, display_name, role, disabled_at, created_at FROM users ORDER BY username`);
+      return {
+        items: rows.map((u) => ({
+          id: u.id,
+          username: u.username,
+          displayName: u.display_name,
+          role: u.role,
+          disabled: u.disabled_at !== null,
+          createdAt: u.created_at.toISOString(),
+        })),
+      };
+    },
+  );
+
+  app.post(
+    '/users',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: 'Create a user (password hashed with scrypt)',
+        body: z.object({
+          username: z.string().regex(/^[a-z0-9._-]{2,64}$/),
+          displayName: z.string().max(200).optional(),
+          password: z.string().min(10).max(1000),
+          role: z.enum(ROLES),
+        }),
+        response: { 201: userSchema, ...errorResponses, 409: problemSchema },
+      },
+    },
+    async (request, reply) => {
+      const b = request.body;
+      const actor = request.principal!;
+      const hash = await hashPassword(b.password);
+      const user = await inTransaction(ctx.pool, async (client) => {
+        const { rows } = await client.query<{ id: number; created_at: Date }>(
+          `INSERT INTO users (username, display_name, password_hash, role) VALUES ($1, $2, $3, $4)
+           ON CONFLICT (username) DO NOTHING RETURNING id, created_at`,
+          [b.username, b.displayName ?? null, hash, b.role],
+        );
+        const created = rows[0];
+        if (created === undefined)
+          throw new ApiError('API_CONFLICT', { entity: 'user', id: b.username, reason: 'exists already' });
+        await appendAudit(client, {
+          actor,
+          action: 'user.create',
+          entity: 'user',
+          entityId: created.id,
+          after: { username: b.username, role: b.role, displayName: b.displayName ?? null },
+        });
+        return created;
+      });
+      return reply.code(201).send({
+        id: user.id,
+        username: b.username,
+        displayName: b.displayName ?? null,
+        role: b.role,
+        disabled: false,
+        createdAt: user.created_at.toISOString(),
+      });
+    },
+  );
+};

@@ -1,0 +1,232 @@
+import { createHash } from 'node:crypto';
+import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
+import { z } from 'zod';
+import type { ApiContext } from '../app.js';
+import { appendAudit } from '../audit.js';
+import { ApiError } from '../errors.js';
+import {
+  decodeCursor,
+  encodeCursor,
+  errorResponses,
+  idParam,
+  nextLink,
+  page,
+  pageQuery,
+  problemSchema,
+} from '../http/schemas.js';
+import { gatherMonthlyInput } from '../queries/monthly.js';
+import {
+  buildMonthlyReport,
+  monthRange,
+  renderReportCsv,
+  renderReportHtml,
+  renderReportJson,
+} from '../report.js';
+
+export const EXPORT_KIND = 'monthly-degradation';
+
+const FORMATS = ['csv', 'json', 'html'] as const;
+type Format = (typeof FORMATS)[number];
+
+const CONTENT_TYPES: Readonly<Record<Format, string>> = {
+  csv: 'text/csv; charset=utf-8; header=present',
+  json: 'application/json; charset=utf-8',
+  html: 'text/html; charset=utf-8',
+};
+
+const exportSchema = z.object({
+  id: z.number().int(),
+  kind: z.string(),
+  machineId: z.number().int().nullable(),
+  periodFrom: z.string(),
+  periodTo: z.string(),
+  format: z.enum(['csv', 'json', 'html', 'pdf']),
+  status: z.enum(['pending', 'done', 'failed']),
+  sizeBytes: z.number().int().nullable(),
+  checksum: z.string().nullable().describe('SHA-256 of the content, hex'),
+  error: z.string().nullable(),
+  createdBy: z.string(),
+  createdAt: z.string(),
+  download: z.string().nullable(),
+});
+
+interface ExportRow {
+  id: number;
+  kind: string;
+  machine_id: number | null;
+  period_from: Date;
+  period_to: Date;
+  format: 'csv' | 'json' | 'html' | 'pdf';
+  status: 'pending' | 'done' | 'failed';
+  size: number | null;
+  checksum: string | null;
+  error: string | null;
+  created_by: string;
+  created_at: Date;
+}
+
+const COLS = `id::int, kind, machine_id, period_from, period_to, format, status, octet_length(content) AS size, checksum, error, created_by, created_at`;
+
+function exportOut(r: ExportRow): z.infer<typeof exportSchema> {
+  return {
+    id: r.id,
+    kind: r.kind,
+    machineId: r.machine_id,
+    periodFrom: r.period_from.toISOString(),
+    periodTo: r.period_to.toISOString(),
+    format: r.format,
+    status: r.status,
+    sizeBytes: r.size,
+    checksum: r.checksum,
+    error: r.error,
+    createdBy: r.created_by,
+    createdAt: r.created_at.toISOString(),
+    download: r.status === 'done' ? `/api/exports/${r.id}/download` : null,
+  };
+}
+
+/** Render the month's report in one format (the monthly job calls the same builder and renderers). */
+export async function renderMonthlyExport(
+  ctx: Pick<ApiContext, 'pool' | 'energyPrice' | 'now'>,
+  month: string,
+  format: Format,
+  machineId: number | undefined,
+): Promise<string> {
+  const input = await gatherMonthlyInput(ctx.pool, month, {
+    machineIds: machineId === undefined ? undefined : [machineId],
+    price: ctx.energyPrice,
+    generatedAtMs: ctx.now(),
+  });
+  const report = buildMonthlyReport(input);
+  return format === 'csv'
+    ? renderReportCsv(report)
+    : format === 'json'
+      ? renderReportJson(report)
+      : renderReportHtml(report);
+}
+
+export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  app.get(
+    '/exports',
+    {
+      schema: {
+        tags: ['exports'],
+        summary: 'Exports, newest first, paginated',
+        querystring: pageQuery,
+        response: { 200: page(exportSchema), ...errorResponses },
+      },
+    },
+    async (request) => {
+      const q = request.query;
+      const cursor = decodeCursor(q.cursor);
+      const before = cursor === undefined ? undefined : Number(cursor[0]);
+      if (before !== undefined && !Number.isInteger(before))
+        throw new ApiError('API_BAD_CURSOR', { cursor: q.cursor });
+      const { rows } = await ctx.pool.query<ExportRow>(
+        `SELECT ${COLS} FROM exports WHERE ($1::bigint IS NULL OR id < $1) ORDER BY id DESC LIMIT $2`,
+        [before ?? null, q.limit + 1],
+      );
+      const items = rows.slice(0, q.limit);
+      const last = items.at(-1);
+      return {
+        items: items.map(exportOut),
+        next: nextLink(
+          request.url,
+          rows.length > q.limit && last !== undefined ? encodeCursor([last.id]) : undefined,
+        ),
+      };
+    },
+  );
+
+  app.post(
+    '/exports',
+    {
+      config: { role: 'viewer' },
+      schema: {
+        tags: ['exports'],
+        summary: 'Make the monthly degradation export now (CSV, JSON or printable HTML) and store it',
+        body: z.object({
+          month: z
+            .string()
+            .regex(/^\d{4}-(0[1-9]|1[0-2])$/)
+            .describe("Calendar month 'YYYY-MM' (UTC)"),
+          format: z.enum(FORMATS).default('csv'),
+          machineId: z.number().int().positive().optional(),
+        }),
+        response: { 201: exportSchema, ...errorResponses, 422: problemSchema },
+      },
+    },
+    async (request, reply) => {
+      const { month, format, machineId } = request.body;
+      const actor = request.principal!;
+      const { fromMs, toMs } = monthRange(month);
+      let content: string;
+      let status: 'done' | 'failed' = 'done';
+      let error: string | null = null;
+      try {
+        content = await renderMonthlyExport(ctx, month, format, machineId);
+      } catch (e) {
+        // A failed export is recorded with its reason, so the list shows what went wrong.
+        status = 'failed';
+        error = e instanceof Error ? `${(e as { code?: string }).code ?? e.name}: ${e.message}` : String(e);
+        content = '';
+      }
+      const bytes = Buffer.from(content, 'utf8');
+      const { rows } = await ctx.pool.query<ExportRow>(
+        `INSERT INTO exports (kind, machine_id, period_from, period_to, format, status, content, checksum, error, created_by, finished_at)
+         VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, now()) RETURNING ${COLS}`,
+        [
+          EXPORT_KIND,
+          machineId ?? null,
+          new Date(fromMs),
+          new Date(toMs),
+          format,
+          status,
+          status === 'done' ? bytes : null,
+          status === 'done' ? createHash('sha256').update(bytes).digest('hex') : null,
+          error,
+          actor.username,
+        ],
+      );
+      const row = rows[0]!;
+      await appendAudit(ctx.pool, {
+        actor,
+        action: 'export.create',
+        entity: 'export',
+        entityId: row.id,
+        after: exportOut(row),
+      });
+      if (status === 'failed')
+        throw new ApiError('API_UNPROCESSABLE', { reason: `export ${row.id} failed: ${error}` });
+      return reply.code(201).send(exportOut(row));
+    },
+  );
+
+  app.get(
+    '/exports/:id/download',
+    {
+      schema: {
+        tags: ['exports'],
+        summary: 'Download an export (CSV, JSON or HTML) as an attachment',
+        params: idParam,
+        response: { 200: z.string(), ...errorResponses, 409: problemSchema },
+      },
+    },
+    async (request, reply) => {
+      const { rows } = await ctx.pool.query<ExportRow & { content: Buffer | null }>(
+        `SELECT ${COLS}, content FROM exports WHERE id = $1`,
+        [request.params.id],
+      );
+      const r = rows[0];
+      if (r === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'export', id: request.params.id });
+      if (r.status !== 'done' || r.content === null || r.format === 'pdf')
+        throw new ApiError('API_EXPORT_NOT_READY', { id: r.id, status: r.status });
+      const month = r.period_from.toISOString().slice(0, 7);
+      const name = `isentrope-degradation-${month}${r.machine_id === null ? '' : `-machine-${r.machine_id}`}.${r.format}`;
+      return reply
+        .type(CONTENT_TYPES[r.format])
+        .header('content-disposition', `attachment; filename="${name}"`)
+        .send(r.content.toString('utf8'));
+    },
+  );
+};

@@ -1,0 +1,311 @@
+import { degradation } from '@isentrope/monitor';
+import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
+import { z } from 'zod';
+import type { ApiContext } from '../app.js';
+import { ApiError } from '../errors.js';
+import { notModified } from '../http/etag.js';
+import {
+  decodeCursor,
+  encodeCursor,
+  errorResponses,
+  idParam,
+  nextLink,
+  page,
+  pageQuery,
+  rangeQuery,
+  resolveRange,
+} from '../http/schemas.js';
+import { activeBaseline } from '../queries/baselines.js';
+import { getBands, getMachine } from '../queries/machines.js';
+import { dailyDrift, listResults, type ResultRow, resultTrend } from '../queries/results.js';
+
+const n = z.number().nullable();
+
+export const resultSchema = z.object({
+  time: z.string(),
+  pIn: n.describe('[Pa]'),
+  tIn: n.describe('[K]'),
+  hIn: n.describe('[J/kg]'),
+  sIn: n.describe('[J/(kg K)]'),
+  pOut: n,
+  tOut: n,
+  hOut: n,
+  sOut: n,
+  tOutS: n.describe('Isentropic outlet temperature [K]'),
+  hOutS: n.describe('Isentropic outlet enthalpy [J/kg]'),
+  massFlow: n.describe('[kg/s]'),
+  efficiency: n.describe('Isentropic efficiency [-]'),
+  uEfficiency: n,
+  polytropicEfficiency: n,
+  uPolytropicEfficiency: n,
+  specificWork: n.describe('[J/kg]'),
+  uSpecificWork: n,
+  power: n.describe('[W]'),
+  uPower: n,
+  entropyGeneration: n.describe('s_out - s_in [J/(kg K)]'),
+  uEntropyGeneration: n,
+  operatingPoint: n,
+  steady: z.boolean(),
+  flags: z.array(z.string()),
+  valid: z.boolean(),
+});
+
+export function resultOut(r: ResultRow): z.infer<typeof resultSchema> {
+  return {
+    time: r.time.toISOString(),
+    pIn: r.p_in,
+    tIn: r.t_in,
+    hIn: r.h_in,
+    sIn: r.s_in,
+    pOut: r.p_out,
+    tOut: r.t_out,
+    hOut: r.h_out,
+    sOut: r.s_out,
+    tOutS: r.t_out_s,
+    hOutS: r.h_out_s,
+    massFlow: r.mass_flow,
+    efficiency: r.efficiency,
+    uEfficiency: r.u_efficiency,
+    polytropicEfficiency: r.polytropic_efficiency,
+    uPolytropicEfficiency: r.u_polytropic_efficiency,
+    specificWork: r.specific_work,
+    uSpecificWork: r.u_specific_work,
+    power: r.power,
+    uPower: r.u_power,
+    entropyGeneration: r.entropy_generation,
+    uEntropyGeneration: r.u_entropy_generation,
+    operatingPoint: r.operating_point,
+    steady: r.steady,
+    flags: r.flags,
+    valid: r.valid,
+  };
+}
+
+const bucketSchema = z.object({
+  t: z.number().describe('Bucket start [ms since epoch]'),
+  n: z.number().int(),
+  nValid: z.number().int(),
+  efficiencyMean: n,
+  efficiencyMin: n,
+  efficiencyMax: n,
+  uEfficiency: n,
+  baseline: n,
+  driftPts: n,
+  specificWorkMean: n,
+  powerMean: n,
+  powerMin: n,
+  powerMax: n,
+  operatingPointMean: n,
+  entropyGenerationMean: n,
+});
+
+const trendResponse = z.object({
+  machineId: z.number().int(),
+  from: z.string(),
+  to: z.string(),
+  bucketMs: z.number(),
+  bands: z.object({ warning: z.number(), alarm: z.number() }).nullable(),
+  baselineId: z.number().int().nullable(),
+  buckets: z.array(bucketSchema),
+});
+
+export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  async function machineOr404(id: number) {
+    const m = await getMachine(ctx.pool, id);
+    if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
+    return m;
+  }
+
+  app.get(
+    '/machines/:id/results',
+    {
+      schema: {
+        tags: ['results'],
+        summary: 'Computed results, newest first, paginated',
+        params: idParam,
+        querystring: rangeQuery.extend(pageQuery.shape),
+        response: { 200: page(resultSchema), ...errorResponses },
+      },
+    },
+    async (request) => {
+      await machineOr404(request.params.id);
+      const { fromMs, toMs } = resolveRange(request.query, ctx.now());
+      const cursor = decodeCursor(request.query.cursor);
+      const before = cursor === undefined ? undefined : Number(cursor[0]);
+      if (before !== undefined && !Number.isFinite(before))
+        throw new ApiError('API_BAD_CURSOR', { cursor: request.query.cursor });
+      const limit = request.query.limit;
+      const rows = await listResults(ctx.pool, request.params.id, fromMs, toMs, limit + 1, before);
+      const items = rows.slice(0, limit);
+      const last = items.at(-1);
+      return {
+        items: items.map(resultOut),
+        next: nextLink(
+          request.url,
+          rows.length > limit && last !== undefined ? encodeCursor([last.time.getTime()]) : undefined,
+        ),
+      };
+    },
+  );
+
+  async function buildTrend(
+    id: number,
+    range: { from?: string | undefined; to?: string | undefined },
+    bucketsOrWindow: { buckets: number } | { windowS: number },
+  ) {
+    const m = await machineOr404(id);
+    const { fromMs, toMs } = resolveRange(range, ctx.now());
+    const baseline = await activeBaseline(ctx.pool, m.id);
+    const bands = await getBands(ctx.pool, m.id);
+    const buckets =
+      'buckets' in bucketsOrWindow
+        ? bucketsOrWindow.buckets
+        : Math.max(1, Math.ceil((toMs - fromMs) / (bucketsOrWindow.windowS * 1000)));
+    if (buckets > 20_000)
+      throw new ApiError('API_UNPROCESSABLE', {
+        reason: `${buckets} windows asked; at most 20000 per request`,
+      });
+    const trend = await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets, baseline);
+    return {
+      machineId: m.id,
+      from: new Date(fromMs).toISOString(),
+      to: new Date(toMs).toISOString(),
+      bucketMs: trend.widthMs,
+      bands: bands === undefined ? null : { warning: bands.warning, alarm: bands.alarm },
+      baselineId: baseline?.id ?? null,
+      buckets: trend.buckets,
+    };
+  }
+
+  app.get(
+    '/machines/:id/trend',
+    {
+      schema: {
+        tags: ['results'],
+        summary:
+          'Downsampled efficiency, baseline, drift, specific work and power; ETag, 304 on If-None-Match',
+        params: idParam,
+        querystring: rangeQuery.extend({
+          buckets: z.coerce.number().int().min(1).max(5000).default(600).describe('Number of buckets wanted'),
+        }),
+        response: { 200: trendResponse, 304: z.null().describe('Not modified'), ...errorResponses },
+      },
+    },
+    async (request, reply) => {
+      const body = await buildTrend(request.params.id, request.query, { buckets: request.query.buckets });
+      if (notModified(request, reply, body)) return reply;
+      return body;
+    },
+  );
+
+  app.get(
+    '/machines/:id/rolling',
+    {
+      schema: {
+        tags: ['results'],
+        summary: 'Rolling (windowed) efficiency: valid results averaged per window of windowS seconds',
+        params: idParam,
+        querystring: rangeQuery.extend({
+          windowS: z.coerce
+            .number()
+            .int()
+            .min(60)
+            .max(31 * 86_400)
+            .default(3600)
+            .describe('Window [s]'),
+        }),
+        response: { 200: trendResponse, 304: z.null(), ...errorResponses },
+      },
+    },
+    async (request, reply) => {
+      const body = await buildTrend(request.params.id, request.query, { windowS: request.query.windowS });
+      if (notModified(request, reply, body)) return reply;
+      return body;
+    },
+  );
+
+  app.get(
+    '/machines/:id/drift',
+    {
+      schema: {
+        tags: ['results'],
+        summary:
+          'Daily drift against the active baseline and the degradation rate (Theil-Sen) with the forecast to the alarm band',
+        params: idParam,
+        querystring: rangeQuery,
+        response: {
+          200: z.object({
+            machineId: z.number().int(),
+            days: z.array(z.object({ t: z.number(), driftPts: z.number(), n: z.number().int() })),
+            alarmPts: z.number().nullable(),
+            ratePtsPerMonth: n,
+            rateLowPtsPerMonth: n,
+            rateHighPtsPerMonth: n,
+            forecast: z.object({
+              status: z.enum(['forecast', 'reached', 'none']),
+              at: z.string().nullable(),
+              earliest: z.string().nullable(),
+              latest: z.string().nullable(),
+              text: z.string(),
+            }),
+          }),
+          ...errorResponses,
+          409: errorResponses[400],
+        },
+      },
+    },
+    async (request) => {
+      const m = await machineOr404(request.params.id);
+      const { fromMs, toMs } = resolveRange(request.query, ctx.now(), 90 * 86_400_000);
+      const baseline = await activeBaseline(ctx.pool, m.id);
+      if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
+      const bands = await getBands(ctx.pool, m.id);
+      const days = await dailyDrift(ctx.pool, m.id, fromMs, toMs, baseline);
+      const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
+      const iso = (v: number | undefined): string | null =>
+        v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
+      if (bands === undefined)
+        return {
+          machineId: m.id,
+          days,
+          alarmPts: null,
+          ratePtsPerMonth: null,
+          rateLowPtsPerMonth: null,
+          rateHighPtsPerMonth: null,
+          forecast: {
+            status: 'none' as const,
+            at: null,
+            earliest: null,
+            latest: null,
+            text: 'No bands configured: no alarm level to forecast.',
+          },
+        };
+      const d = degradation(
+        days.map((x) => x.t),
+        days.map((x) => x.driftPts),
+        { alarmPts: -bands.alarm },
+      );
+      const f = d.forecast;
+      return {
+        machineId: m.id,
+        days,
+        alarmPts: -bands.alarm,
+        ratePtsPerMonth: finite(d.ratePtsPerMonth),
+        rateLowPtsPerMonth: finite(d.rateLowPtsPerMonth),
+        rateHighPtsPerMonth: finite(d.rateHighPtsPerMonth),
+        forecast:
+          f.status === 'forecast'
+            ? {
+                status: f.status,
+                at: iso(f.atMs),
+                earliest: iso(f.earliestMs),
+                latest: iso(f.latestMs),
+                text: 'forecast from the Theil-Sen line',
+              }
+            : f.status === 'reached'
+              ? { status: f.status, at: iso(f.atMs), earliest: null, latest: null, text: f.reason }
+              : { status: f.status, at: null, earliest: null, latest: null, text: f.text },
+      };
+    },
+  );
+};

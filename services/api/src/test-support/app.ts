@@ -1,0 +1,18 @@
+import type pg from 'pg';
+import { pino } from 'pino';
+import { type ApiApp, type ApiDependencies, buildApp } from '../app.js';
+
+/** The app on a test pool, logging nothing. */
+export async function buildTestApp(pool: pg.Pool, extra: Partial<ApiDependencies> = {}): Promise<ApiApp> {
+  const app = await buildApp({
+    pool,
+    database: { kind: 'external', displayUrl: 'postgres://test' },
+    logger: pino({ level: 'silent' }),
+    version: '0.0.0-test',
+    startedAt: Date.now(),
+    adminPassword: 'initial-admin-password',
+    ...extra,
+  });
+  await app.ready();
+  return app;
+}
