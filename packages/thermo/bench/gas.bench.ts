@@ -1,41 +1,85 @@
 /**
- * Gas property speed: statePT and statePS per second for dry air (ideal gas) and a natural gas
- * on Peng-Robinson. One JSON line per figure. Run: npx tsx packages/thermo/bench/gas.bench.ts
+ * Gas property speed on one core: statePT, statePH and statePS per second for dry air (ideal gas)
+ * and a natural gas on Peng-Robinson, plus a compressor-like case (inlet statePT, isentropic
+ * outlet statePS, actual outlet statePT, isentropic efficiency) per second. Rates are per
+ * CPU-second of this process (the machine is shared). One JSON line per figure.
+ * Run: npx tsx packages/thermo/bench/gas.bench.ts
  */
 import { dryAir, type GasModel, naturalGas } from '../src/gas/index.js';
 
-function rate(label: string, fn: (i: number) => number, seconds = 2): void {
-  // warm-up, then count whole batches until the time is up
+/** Calls of f per CPU-second, counted over about `seconds` of CPU time after a warm-up. */
+function rate(f: (i: number) => number, seconds = 1.5): number {
   let sink = 0;
-  for (let i = 0; i < 2000; i++) sink += fn(i);
-  const batch = 2000;
+  for (let i = 0; i < 20_000; i++) sink += f(i);
   let n = 0;
-  const t0 = performance.now();
-  let t = t0;
-  while (t - t0 < seconds * 1000) {
-    for (let i = 0; i < batch; i++) sink += fn(n + i);
-    n += batch;
-    t = performance.now();
+  const start = process.cpuUsage();
+  let used = 0;
+  while (used < seconds * 1e6) {
+    for (let k = 0; k < 2_000; k++, n++) sink += f(n);
+    const c = process.cpuUsage(start);
+    used = c.user + c.system;
   }
-  const value = n / ((t - t0) / 1000);
-  if (Number.isNaN(sink)) throw new Error('bench produced NaN');
-  process.stdout.write(
-    `${JSON.stringify({ bench: label, value: Number(value.toPrecision(3)), unit: 'evals/s' })}\n`,
+  if (!Number.isFinite(sink)) throw new Error('bench produced a non-finite result');
+  return n / (used / 1e6);
+}
+
+function emit(bench: string, value: number, unit: string): void {
+  process.stdout.write(`${JSON.stringify({ bench, value: Number(value.toPrecision(3)), unit })}\n`);
+}
+
+/**
+ * Inputs spread over 97 pressures x 101 temperatures (or entropies/enthalpies) around p0 and
+ * T0 so that no answer is cached by accident; statePH and statePS targets are taken from states
+ * of the same grid.
+ */
+function run(tag: string, gas: GasModel, p0: number, T0: number): void {
+  const p = (i: number) => p0 * (1 + (i % 97) * 1e-3);
+  const T = (i: number) => T0 + (i % 101);
+  const h = Float64Array.from({ length: 101 }, (_, k) => gas.statePT(p0, T0 + k).h);
+  const s = Float64Array.from({ length: 101 }, (_, k) => gas.statePT(p0, T0 + k).s);
+  emit(
+    `thermo.gas.${tag}.statePT`,
+    rate((i) => gas.statePT(p(i), T(i)).h),
+    'evals/s',
+  );
+  emit(
+    `thermo.gas.${tag}.statePH`,
+    rate((i) => gas.statePH(p(i), h[i % 101]!).T),
+    'evals/s',
+  );
+  emit(
+    `thermo.gas.${tag}.statePS`,
+    rate((i) => gas.statePS(p(i), s[i % 101]!).T),
+    'evals/s',
   );
 }
 
-function run(tag: string, gas: GasModel, p0: number): void {
-  const s0 = gas.statePT(p0, 350).s;
-  rate(`thermo.gas.${tag}.statePT`, (i) => gas.statePT(p0 * (1 + (i % 97) * 1e-3), 300 + (i % 101)).h);
-  rate(`thermo.gas.${tag}.statePS`, (i) => gas.statePS(p0 * (1 + (i % 97) * 1e-3), s0 + (i % 101)).T);
+/**
+ * A compressor case as the machine model computes it (DESIGN.md section 5): inlet state from
+ * (p1, T1), isentropic outlet from (p2, s1), actual outlet from (p2, T2), efficiency
+ * (h2s - h1)/(h2 - h1). Invented operating points: p1 around p1 [Pa], pressure ratio about 2.
+ */
+function compressor(tag: string, gas: GasModel, p1: number, T1: number, T2: number): void {
+  emit(
+    `thermo.gas.${tag}.compressor_case`,
+    rate((i) => {
+      const pin = p1 * (1 + (i % 97) * 1e-3);
+      const inlet = gas.statePT(pin, T1 + (i % 23) * 0.5);
+      const pout = 2 * pin * (1 + (i % 13) * 1e-3);
+      const outS = gas.statePS(pout, inlet.s);
+      const outlet = gas.statePT(pout, T2 + (i % 29) * 0.5);
+      return (outS.h - inlet.h) / (outlet.h - inlet.h);
+    }),
+    'cases/s',
+  );
 }
 
-run('air_ideal', dryAir(), 1e5);
-run(
-  'natural_gas_pr',
-  naturalGas(
-    { methane: 0.9, ethane: 0.05, propane: 0.02, nC4: 0.005, iC4: 0.005, N2: 0.01, CO2: 0.01 },
-    'peng-robinson',
-  ),
-  7e6,
+const air = dryAir();
+const gas = naturalGas(
+  { methane: 0.9, ethane: 0.05, propane: 0.02, nC4: 0.005, iC4: 0.005, N2: 0.01, CO2: 0.01 },
+  'peng-robinson',
 );
+run('air_ideal', air, 1e5, 300);
+run('natural_gas_pr', gas, 7e6, 300);
+compressor('air_ideal', air, 1e5, 293, 380);
+compressor('natural_gas_pr', gas, 4e6, 300, 370);

@@ -1,6 +1,6 @@
 import { ConvergenceError, OutOfRangeError } from '../errors.js';
 import type { Fluid, FluidState } from '../fluid.js';
-import { cpR, hR, NASA_STANDARD_PRESSURE, NASA_T_MID, NASA7, s0R } from './nasa7.js';
+import { NASA_STANDARD_PRESSURE, NASA_T_MID, NASA7 } from './nasa7.js';
 import { PengRobinsonMixture, type PRResult, R_MOLAR } from './peng-robinson.js';
 import {
   type NormaliseOptions,
@@ -36,6 +36,13 @@ export interface GasModel extends Fluid {
   cp(T: number, p: number): number;
   /** Compressibility factor Z = p v/(R T) [-] at p [Pa], T [K]; 1 for the ideal gas. */
   compressibility(p: number, T: number): number;
+  /**
+   * State from p [Pa] and h [J/kg]. TGuess [K], optional, is where the iteration starts (e.g. the
+   * previous sample's answer); without it the ideal-gas solution is the start.
+   */
+  statePH(p: number, h: number, TGuess?: number): FluidState;
+  /** State from p [Pa] and s [J/(kg K)]; TGuess [K] as for statePH. */
+  statePS(p: number, s: number, TGuess?: number): FluidState;
 }
 
 const T_REF = 298.15; // [K], h = 0 here
@@ -43,6 +50,70 @@ const T_REF = 298.15; // [K], h = 0 here
 const T_LOW = 200;
 /** Highest pressure accepted [Pa]: 100 MPa, well beyond plant gas service. */
 const P_MAX = 100e6;
+
+/**
+ * Newton on T stops when the next step is below this fraction of T (3e-5 K at 300 K). The step is
+ * then taken by linear extrapolation: Newton's error after it is about |f''/(2 f')| step^2, with
+ * f''/f' of order 1/T for h and s along an isobar, so about 1e-12 K, far below the 1e-7 K that
+ * round trips must meet.
+ */
+const STEP_TOL = 1e-7;
+/** Newton steps before the solver falls back to bisection of the bracket it has kept. */
+const NEWTON_ITERATIONS = 12;
+/** Total cap on iterations (Newton plus bisection): bisection of 200..6000 K to 1e-11 T takes ~40. */
+const MAX_ITERATIONS = 60;
+/** Bisection stops when the bracket is narrower than this fraction of T (a step of h or s in T). */
+const BRACKET_TOL = 1e-11;
+
+/** Slots of the scratch array written by GasMixture.props(). */
+const H = 0; // h [J/kg]
+const S = 1; // s [J/(kg K)]
+const CP = 2; // cp [J/(kg K)]
+const V = 3; // v [m3/kg]
+const DVDT = 4; // (dv/dT)_p [m3/(kg K)]
+
+/**
+ * NASA 7-term coefficients of one range rearranged for Horner's rule (NASA/TP-2002-211556
+ * section 2): [0..4] cp/R = a1..a5; [5..10] H/R = T (a1 + a2/2 T + a3/3 T^2 + a4/4 T^3 + a5/5 T^4)
+ * + a6; [11..16] S0/R = a1 ln T + T (a2 + a3/2 T + a4/3 T^2 + a5/4 T^3) + a7.
+ */
+function hornerCoefficients(a: Float64Array): Float64Array {
+  const [a1 = 0, a2 = 0, a3 = 0, a4 = 0, a5 = 0, a6 = 0, a7 = 0] = a;
+  return Float64Array.of(
+    a1,
+    a2,
+    a3,
+    a4,
+    a5,
+    a1,
+    a2 / 2,
+    a3 / 3,
+    a4 / 4,
+    a5 / 5,
+    a6,
+    a1,
+    a2,
+    a3 / 2,
+    a4 / 3,
+    a5 / 4,
+    a7,
+  );
+}
+
+/** cp/R [-] at T [K] (coefficients laid out by hornerCoefficients). */
+function hornerCpR(c: Float64Array, T: number): number {
+  return c[0]! + T * (c[1]! + T * (c[2]! + T * (c[3]! + T * c[4]!)));
+}
+
+/** H/R [K] at T [K], formation enthalpy included. */
+function hornerHR(c: Float64Array, T: number): number {
+  return T * (c[5]! + T * (c[6]! + T * (c[7]! + T * (c[8]! + T * c[9]!)))) + c[10]!;
+}
+
+/** S0/R [-] at T [K] and p0. */
+function hornerSR(c: Float64Array, T: number): number {
+  return c[11]! * Math.log(T) + T * (c[12]! + T * (c[13]! + T * (c[14]! + T * c[15]!))) + c[16]!;
+}
 
 export interface MixtureOptions extends NormaliseOptions {
   /** Binary interaction parameters for Peng-Robinson, e.g. { 'CH4/CO2': 0.1 }; 0 when absent. */
@@ -57,15 +128,20 @@ class GasMixture implements GasModel {
   readonly Tmax: number;
   readonly pMax = P_MAX;
   readonly notes: readonly string[];
-  /** Mole-fraction-weighted NASA coefficients, per range. */
-  private readonly low = new Float64Array(7);
-  private readonly high = new Float64Array(7);
+  /** Mole-fraction-weighted NASA coefficients per range, in the layout of hornerCoefficients(). */
+  private readonly cLow: Float64Array;
+  private readonly cHigh: Float64Array;
   /** H/R of the mixture at T_REF [K], subtracted so h_ig(T_REF) = 0. */
   private readonly hRef: number;
   /** -sum x ln x, the ideal mixing entropy over R. */
   private readonly mixS: number;
+  /** Ideal-gas cp [J/(kg K)] and s at p0 [J/(kg K)] at T_REF, for the first guess of T. */
+  private readonly cpRef: number;
+  private readonly sRef: number;
   private readonly pr: PengRobinsonMixture | undefined;
-  private readonly res: PRResult = { Z: 1, hRes: 0, sRes: 0, cpRes: 0 };
+  private readonly res: PRResult = { Z: 1, hRes: 0, sRes: 0, cpRes: 0, dvdT: 0 };
+  /** Scratch written by props() (slots H, S, CP, V, DVDT): no allocation inside the solvers. */
+  private readonly w = new Float64Array(5);
 
   constructor(
     readonly name: string,
@@ -80,6 +156,8 @@ class GasMixture implements GasModel {
     let mixS = 0;
     let Tmax = Number.POSITIVE_INFINITY;
     const notes: string[] = [];
+    const low = new Float64Array(7);
+    const high = new Float64Array(7);
     ids.forEach((id, k) => {
       const x = xs[k]!;
       const nasa = NASA7[id];
@@ -87,8 +165,8 @@ class GasMixture implements GasModel {
       mixS -= x * Math.log(x);
       Tmax = Math.min(Tmax, nasa.Tmax);
       for (let i = 0; i < 7; i++) {
-        this.low[i]! += x * nasa.low[i]!;
-        this.high[i]! += x * nasa.high[i]!;
+        low[i]! += x * nasa.low[i]!;
+        high[i]! += x * nasa.high[i]!;
       }
       if (nasa.Tmin > T_LOW) {
         // A smooth 4th-degree fit carried 100 K below its start: cp stays within about 1 % there
@@ -103,12 +181,47 @@ class GasMixture implements GasModel {
     this.Tmin = T_LOW;
     this.Tmax = Tmax;
     this.mixS = mixS;
-    this.hRef = hR(this.low, T_REF);
+    this.cLow = hornerCoefficients(low);
+    this.cHigh = hornerCoefficients(high);
+    this.hRef = hornerHR(this.cLow, T_REF);
+    this.cpRef = this.R * hornerCpR(this.cLow, T_REF);
+    this.sRef = this.R * (hornerSR(this.cLow, T_REF) + mixS);
     this.notes = notes;
     this.pr =
       eos === 'peng-robinson'
         ? new PengRobinsonMixture(species, xs, (a: SpeciesData, b: SpeciesData) => kijOf(kij, a.id, b.id))
         : undefined;
+  }
+
+  /**
+   * h, s, cp, v and (dv/dT)_p at p [Pa], T [K] into the scratch w; lnP = ln(p/p0), passed in so
+   * that a solver along one isobar takes the logarithm once. real = false leaves out the
+   * Peng-Robinson departures (used for the first guess). No range check: callers check.
+   */
+  private props(p: number, T: number, lnP: number, real: boolean): void {
+    const c = T < NASA_T_MID ? this.cLow : this.cHigh;
+    const R = this.R;
+    let h = R * (hornerHR(c, T) - this.hRef);
+    let s = R * (hornerSR(c, T) + this.mixS - lnP);
+    let cp = R * hornerCpR(c, T);
+    let v = (R * T) / p;
+    let dvdT = R / p;
+    const pr = this.pr;
+    if (real && pr !== undefined) {
+      const d = pr.evaluate(p, T, this.res);
+      const perKg = 1 / this.molarMass;
+      h += d.hRes * perKg;
+      s += d.sRes * perKg;
+      cp += d.cpRes * perKg;
+      v *= d.Z;
+      dvdT = d.dvdT * perKg;
+    }
+    const w = this.w;
+    w[H] = h;
+    w[S] = s;
+    w[CP] = cp;
+    w[V] = v;
+    w[DVDT] = dvdT;
   }
 
   private check(p: number, T: number): void {
@@ -118,114 +231,179 @@ class GasMixture implements GasModel {
     if (!(p > 0 && p <= P_MAX)) throw new OutOfRangeError('pressure p', p, 'Pa', 0, P_MAX, this.name);
   }
 
-  private coeffs(T: number): Float64Array {
-    return T < NASA_T_MID ? this.low : this.high;
-  }
-
-  /** Ideal-gas enthalpy [J/kg] at T [K]. */
-  private hIdeal(T: number): number {
-    return this.R * (hR(this.coeffs(T), T) - this.hRef);
-  }
-
-  /** Ideal-gas entropy [J/(kg K)] at T [K], p [Pa]. */
-  private sIdeal(T: number, p: number): number {
-    return this.R * (s0R(this.coeffs(T), T) + this.mixS - Math.log(p / NASA_STANDARD_PRESSURE));
-  }
-
-  private departures(p: number, T: number): PRResult | undefined {
-    return this.pr?.evaluate(p, T, this.res);
+  /** The state at p, T from the scratch just written by props(p, T, ...). */
+  private stateFromScratch(p: number, T: number): FluidState {
+    const w = this.w;
+    return { p, T, h: w[H]!, s: w[S]!, v: w[V]! };
   }
 
   statePT(p: number, T: number): FluidState {
     this.check(p, T);
-    const d = this.departures(p, T);
-    const perKg = 1 / this.molarMass;
-    return {
-      p,
-      T,
-      h: this.hIdeal(T) + (d === undefined ? 0 : d.hRes * perKg),
-      s: this.sIdeal(T, p) + (d === undefined ? 0 : d.sRes * perKg),
-      v: ((d === undefined ? 1 : d.Z) * this.R * T) / p,
-    };
+    this.props(p, T, Math.log(p / NASA_STANDARD_PRESSURE), true);
+    return this.stateFromScratch(p, T);
   }
 
   cp(T: number, p: number): number {
     this.check(p, T);
-    const ideal = this.R * cpR(this.coeffs(T), T);
-    const d = this.departures(p, T);
-    return d === undefined ? ideal : ideal + d.cpRes / this.molarMass;
+    this.props(p, T, Math.log(p / NASA_STANDARD_PRESSURE), true);
+    return this.w[CP]!;
   }
 
   compressibility(p: number, T: number): number {
     this.check(p, T);
-    return this.departures(p, T)?.Z ?? 1;
+    return this.pr === undefined ? 1 : this.pr.evaluate(p, T, this.res).Z;
   }
 
-  statePH(p: number, h: number): FluidState {
-    return this.solveT(p, h, 'h');
+  statePH(p: number, h: number, TGuess?: number): FluidState {
+    return this.solveT(p, h, true, TGuess);
   }
 
-  statePS(p: number, s: number): FluidState {
-    return this.solveT(p, s, 's');
+  statePS(p: number, s: number, TGuess?: number): FluidState {
+    return this.solveT(p, s, false, TGuess);
   }
 
   /**
-   * T from p and h (or s): Newton on T with dh/dT = cp (ds/dT = cp/T), kept inside a bracket
-   * that shrinks each step and falls back to bisection, so the small step of the NASA fits at
-   * 1000 K cannot trap it. Capped at 60 iterations.
+   * First guess of T for h (isH) or s on the isobar lnP = ln(p/p0): the ideal-gas part alone,
+   * started from T_REF with cp(T_REF) (for s this is the isentropic relation
+   * T = T_REF exp((s - s_ig(T_REF, p))/cp)), then a few Newton steps on the ideal-gas h or s.
+   * For the ideal gas the closed form is enough: the full solve follows anyway. The guess is kept
+   * inside the model's range; it is only a starting point, the solve checks the range itself.
    */
-  private solveT(p: number, target: number, what: 'h' | 's'): FluidState {
+  private guess(target: number, isH: boolean, lnP: number): number {
+    let T = isH
+      ? T_REF + target / this.cpRef
+      : T_REF * Math.exp((target - (this.sRef - this.R * lnP)) / this.cpRef);
+    if (this.pr === undefined) return this.intoRange(T);
+    const w = this.w;
+    for (let it = 0; it < 6; it++) {
+      T = this.intoRange(T);
+      this.props(NASA_STANDARD_PRESSURE, T, lnP, false);
+      const step = isH ? (w[H]! - target) / w[CP]! : ((w[S]! - target) * T) / w[CP]!;
+      T -= step;
+      if (Math.abs(step) < 1e-3) break; // 1 mK is plenty for a starting point
+    }
+    return this.intoRange(T);
+  }
+
+  /** T [K] moved into [Tmin, Tmax]; for starting guesses only, never for a result. */
+  private intoRange(T: number): number {
+    if (!(T > this.Tmin)) return this.Tmin;
+    return Math.min(T, this.Tmax);
+  }
+
+  /**
+   * T from p and h (isH) or s: Newton on T with the analytic slopes (dh/dT)_p = cp and
+   * (ds/dT)_p = cp/T, cp including the departure. Every evaluation also narrows a bracket
+   * [lo, hi] (h and s rise with T along an isobar); if Newton leaves it, or has not converged
+   * after NEWTON_ITERATIONS, the solver bisects it, so a step in h or s (the NASA ranges meet at
+   * 1000 K with a small jump; the vapour-like Peng-Robinson root can vanish) cannot trap it. An end
+   * of the range is evaluated only when the solution is pushed towards it, and a target beyond it
+   * is refused (THERMO_OUT_OF_RANGE), never clamped. Capped at MAX_ITERATIONS (THERMO_NO_CONVERGENCE).
+   */
+  private solveT(p: number, target: number, isH: boolean, TGuess: number | undefined): FluidState {
     if (!(p > 0 && p <= P_MAX)) throw new OutOfRangeError('pressure p', p, 'Pa', 0, P_MAX, this.name);
     if (!Number.isFinite(target)) {
-      throw new OutOfRangeError(
-        what === 'h' ? 'enthalpy h' : 'entropy s',
-        target,
-        '',
-        -Infinity,
-        Infinity,
-        this.name,
-      );
+      throw new OutOfRangeError(isH ? 'enthalpy h' : 'entropy s', target, '', -Infinity, Infinity, this.name);
     }
-    const value = (T: number) => {
-      const st = this.statePT(p, T);
-      return what === 'h' ? st.h : st.s;
-    };
+    const lnP = Math.log(p / NASA_STANDARD_PRESSURE);
+    let T: number;
+    if (TGuess === undefined) {
+      T = this.guess(target, isH, lnP);
+    } else {
+      if (!(TGuess >= this.Tmin && TGuess <= this.Tmax)) {
+        throw new OutOfRangeError(
+          'starting temperature TGuess',
+          TGuess,
+          'K',
+          this.Tmin,
+          this.Tmax,
+          this.name,
+        );
+      }
+      T = TGuess;
+    }
+    const w = this.w;
     let lo = this.Tmin;
     let hi = this.Tmax;
-    const fLo = value(lo) - target;
-    const fHi = value(hi) - target;
-    if (fLo > 0 || fHi < 0) {
-      const quantity = what === 'h' ? 'enthalpy h' : 'entropy s';
-      const unit = what === 'h' ? 'J/kg' : 'J/(kg K)';
-      throw new OutOfRangeError(
-        quantity,
-        target,
-        unit,
-        fLo + target,
-        fHi + target,
-        `${this.name} at p = ${p} Pa`,
-      );
-    }
-    // Start from the constant-cp estimate around 298.15 K.
-    const cp0 = this.cp(T_REF, p);
-    let T =
-      what === 'h' ? T_REF + (target - value(T_REF)) / cp0 : T_REF * Math.exp((target - value(T_REF)) / cp0);
-    if (!(T > lo && T < hi)) T = 0.5 * (lo + hi);
+    // Whether h or s at lo (hi) is known to lie at or below (at or above) the target.
+    let loKnown = false;
+    let hiKnown = false;
     let residual = Number.NaN;
-    for (let it = 0; it < 60; it++) {
-      const st = this.statePT(p, T);
-      residual = (what === 'h' ? st.h : st.s) - target;
-      if (residual > 0) hi = T;
-      else lo = T;
-      const slope = what === 'h' ? this.cp(T, p) : this.cp(T, p) / T;
-      let next = T - residual / slope;
-      if (!(next > lo && next < hi)) next = 0.5 * (lo + hi);
-      if (Math.abs(next - T) <= 1e-11 * T || hi - lo <= 1e-11 * T) {
-        return this.statePT(p, next);
+    for (let it = 0; it < MAX_ITERATIONS; it++) {
+      this.props(p, T, lnP, true);
+      residual = (isH ? w[H]! : w[S]!) - target;
+      if (residual > 0) {
+        hi = T;
+        hiKnown = true;
+      } else {
+        lo = T;
+        loKnown = true;
+      }
+      const step = isH ? residual / w[CP]! : (residual * T) / w[CP]!;
+      if (Math.abs(step) <= STEP_TOL * T) return this.finish(p, lnP, T, step, isH, target);
+      let next = T - step;
+      if (!(next > lo && next < hi) || it >= NEWTON_ITERATIONS) {
+        if (!loKnown) loKnown = this.checkEnd(p, lnP, target, isH, this.Tmin);
+        if (!hiKnown) hiKnown = this.checkEnd(p, lnP, target, isH, this.Tmax);
+        next = 0.5 * (lo + hi);
+        if (hi - lo <= BRACKET_TOL * hi) {
+          // h or s steps across the target here: the nearest T is the answer.
+          this.props(p, next, lnP, true);
+          return this.stateFromScratch(p, next);
+        }
       }
       T = next;
     }
-    throw new ConvergenceError(`${this.name}: T from (p, ${what})`, 60, residual);
+    throw new ConvergenceError(`${this.name}: T from (p, ${isH ? 'h' : 's'})`, MAX_ITERATIONS, residual);
+  }
+
+  /**
+   * The converged state: T - step, with h and s moved along the isobar by the same linear step
+   * (the one that is being solved for lands on the target exactly) and v by (dv/dT)_p. A step
+   * that would end beyond Tmin or Tmax means the solution lies at that end within the tolerance,
+   * or beyond it: the end is evaluated, and its state returned only if it still brackets the target.
+   */
+  private finish(p: number, lnP: number, T: number, step: number, isH: boolean, target: number): FluidState {
+    const w = this.w;
+    const Tn = T - step;
+    if (!(Tn >= this.Tmin && Tn <= this.Tmax)) {
+      const end = Tn < this.Tmin ? this.Tmin : this.Tmax;
+      this.checkEnd(p, lnP, target, isH, end);
+      return this.stateFromScratch(p, end);
+    }
+    const cp = w[CP]!;
+    return {
+      p,
+      T: Tn,
+      h: isH ? target : w[H]! - cp * step,
+      s: isH ? w[S]! - (cp / T) * step : target,
+      v: w[V]! - w[DVDT]! * step,
+    };
+  }
+
+  /**
+   * Evaluates h or s at the end Tend (Tmin or Tmax) of the range and refuses a target beyond it
+   * with both limits; returns true (the end brackets the solution).
+   */
+  private checkEnd(p: number, lnP: number, target: number, isH: boolean, Tend: number): boolean {
+    this.props(p, Tend, lnP, true);
+    const f = isH ? this.w[H]! : this.w[S]!;
+    const beyond = Tend === this.Tmin ? f > target : f < target;
+    if (beyond) {
+      this.props(p, this.Tmin, lnP, true);
+      const fMin = isH ? this.w[H]! : this.w[S]!;
+      this.props(p, this.Tmax, lnP, true);
+      const fMax = isH ? this.w[H]! : this.w[S]!;
+      throw new OutOfRangeError(
+        isH ? 'enthalpy h' : 'entropy s',
+        target,
+        isH ? 'J/kg' : 'J/(kg K)',
+        fMin,
+        fMax,
+        `${this.name} at p = ${p} Pa`,
+      );
+    }
+    return true;
   }
 }
 

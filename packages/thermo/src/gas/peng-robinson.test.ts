@@ -5,7 +5,7 @@ import { largestCubicRoot, PengRobinsonMixture, PR_ZC, type PRResult } from './p
 import { SPECIES } from './species.js';
 
 const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
-const out = (): PRResult => ({ Z: 0, hRes: 0, sRes: 0, cpRes: 0 });
+const out = (): PRResult => ({ Z: 0, hRes: 0, sRes: 0, cpRes: 0, dvdT: 0 });
 
 describe('Peng-Robinson equation', () => {
   it('critical compressibility Zc = 0.30740 (Peng and Robinson 1976, a property of the equation)', () => {

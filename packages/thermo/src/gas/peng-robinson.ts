@@ -33,6 +33,8 @@ export interface PRResult {
   sRes: number;
   /** Residual isobaric heat capacity cp - cp_ig [J/(mol K)]. */
   cpRes: number;
+  /** Isobaric derivative of the molar volume (dv/dT)_p [m3/(mol K)]. */
+  dvdT: number;
 }
 
 /**
@@ -68,20 +70,24 @@ export function largestCubicRoot(c2: number, c1: number, c0: number): number {
   return z;
 }
 
-/** Peng-Robinson parameters of one mixture, computed once; evaluate() does no allocation. */
+/**
+ * Peng-Robinson parameters of one mixture, computed once; evaluate() does no allocation.
+ *
+ * With sqrt(a_i(T)) = sqrt(ac_i) [1 + kappa_i (1 - sqrt(T/Tc_i))] = alpha_i - beta_i sqrt(T),
+ * alpha_i = sqrt(ac_i) (1 + kappa_i), beta_i = sqrt(ac_i) kappa_i/sqrt(Tc_i), the mixing rule
+ * a = sum x_i x_j (1 - k_ij) sqrt(a_i a_j) is exactly a quadratic in u = sqrt(T):
+ *   a(T) = A0 - 2 A1 u + A2 u^2,
+ * A0 = sum x_i x_j c_ij alpha_i alpha_j, A1 = sum x_i x_j c_ij (alpha_i beta_j + beta_i alpha_j)/2,
+ * A2 = sum x_i x_j c_ij beta_i beta_j. The double sum over species is done once here instead of
+ * at every temperature, so one evaluation costs one square root whatever the number of species.
+ */
 export class PengRobinsonMixture {
-  private readonly n: number;
-  private readonly x: Float64Array;
-  private readonly sqrtAc: Float64Array;
-  private readonly kappa: Float64Array;
-  private readonly Tc: Float64Array;
-  /** (1 - k_ij), row-major n x n. */
-  private readonly cij: Float64Array;
   /** Mixture co-volume b [m3/mol]. */
   readonly b: number;
-  private readonly q: Float64Array;
-  private readonly dq: Float64Array;
-  private readonly d2q: Float64Array;
+  /** a(T) = A0 - 2 A1 sqrt(T) + A2 T [Pa m6/mol2]; A1 in [Pa m6/(mol2 K^0.5)], A2 in [Pa m6/(mol2 K)]. */
+  readonly A0: number;
+  readonly A1: number;
+  readonly A2: number;
 
   constructor(
     species: readonly SpeciesData[],
@@ -90,25 +96,32 @@ export class PengRobinsonMixture {
     kij: (a: SpeciesData, b: SpeciesData) => number,
   ) {
     const n = species.length;
-    this.n = n;
-    this.x = Float64Array.from(moleFractions);
-    this.sqrtAc = new Float64Array(n);
-    this.kappa = new Float64Array(n);
-    this.Tc = new Float64Array(n);
-    this.cij = new Float64Array(n * n);
+    const alpha = new Float64Array(n);
+    const beta = new Float64Array(n);
     let b = 0;
     for (let i = 0; i < n; i++) {
       const s = species[i]!;
-      this.sqrtAc[i] = Math.sqrt((PR_OMEGA_A * R_MOLAR * R_MOLAR * s.Tc * s.Tc) / s.Pc);
-      this.kappa[i] = 0.37464 + 1.54226 * s.omega - 0.26992 * s.omega * s.omega;
-      this.Tc[i] = s.Tc;
-      b += this.x[i]! * ((PR_OMEGA_B * R_MOLAR * s.Tc) / s.Pc);
-      for (let j = 0; j < n; j++) this.cij[i * n + j] = 1 - (i === j ? 0 : kij(s, species[j]!));
+      const sqrtAc = Math.sqrt((PR_OMEGA_A * R_MOLAR * R_MOLAR * s.Tc * s.Tc) / s.Pc);
+      const kappa = 0.37464 + 1.54226 * s.omega - 0.26992 * s.omega * s.omega;
+      alpha[i] = sqrtAc * (1 + kappa);
+      beta[i] = (sqrtAc * kappa) / Math.sqrt(s.Tc);
+      b += moleFractions[i]! * ((PR_OMEGA_B * R_MOLAR * s.Tc) / s.Pc);
+    }
+    let A0 = 0;
+    let A1 = 0;
+    let A2 = 0;
+    for (let i = 0; i < n; i++) {
+      for (let j = 0; j < n; j++) {
+        const w = moleFractions[i]! * moleFractions[j]! * (1 - (i === j ? 0 : kij(species[i]!, species[j]!)));
+        A0 += w * alpha[i]! * alpha[j]!;
+        A1 += 0.5 * w * (alpha[i]! * beta[j]! + beta[i]! * alpha[j]!);
+        A2 += w * beta[i]! * beta[j]!;
+      }
     }
     this.b = b;
-    this.q = new Float64Array(n);
-    this.dq = new Float64Array(n);
-    this.d2q = new Float64Array(n);
+    this.A0 = A0;
+    this.A1 = A1;
+    this.A2 = A2;
   }
 
   /**
@@ -116,49 +129,31 @@ export class PengRobinsonMixture {
    * this equation (e.g. Poling, Prausnitz and O'Connell, 5th ed., Table 6-3):
    *   h - h_ig = R T (Z - 1) + (T a' - a)/(2 sqrt2 b) L
    *   s - s_ig = R ln(Z - B) + a'/(2 sqrt2 b) L,   L = ln[(Z + (1 + sqrt2) B)/(Z + (1 - sqrt2) B)]
-   *   cv - cv_ig = T a''/(2 sqrt2 b) L,  cp - cv = -T (dp/dT)_v^2/(dp/dv)_T.
+   *   cv - cv_ig = T a''/(2 sqrt2 b) L,  cp - cv = -T (dp/dT)_v^2/(dp/dv)_T,
+   *   (dv/dT)_p = -(dp/dT)_v/(dp/dv)_T.
    */
   evaluate(p: number, T: number, out: PRResult): PRResult {
-    const n = this.n;
-    const { x, q, dq, d2q, cij } = this;
-    // sqrt(a_i) = sqrt(ac_i) m_i with m_i = 1 + kappa_i (1 - sqrt(T/Tc_i)); its T-derivatives.
-    for (let i = 0; i < n; i++) {
-      const sTTc = Math.sqrt(T * this.Tc[i]!);
-      const k = this.kappa[i]! * this.sqrtAc[i]!;
-      q[i] = this.sqrtAc[i]! * (1 + this.kappa[i]! * (1 - Math.sqrt(T / this.Tc[i]!)));
-      dq[i] = -k / (2 * sTTc);
-      d2q[i] = k / (4 * T * sTTc);
-    }
-    let a = 0;
-    let da = 0;
-    let d2a = 0;
-    for (let i = 0; i < n; i++) {
-      let sq = 0;
-      let sdq = 0;
-      for (let j = 0; j < n; j++) {
-        const w = x[j]! * cij[i * n + j]!;
-        sq += w * q[j]!;
-        sdq += w * dq[j]!;
-      }
-      a += x[i]! * q[i]! * sq;
-      da += 2 * x[i]! * dq[i]! * sq;
-      d2a += 2 * x[i]! * (d2q[i]! * sq + dq[i]! * sdq);
-    }
+    const u = Math.sqrt(T);
+    const a = this.A0 - 2 * this.A1 * u + this.A2 * T;
+    const da = this.A2 - this.A1 / u;
+    const d2a = this.A1 / (2 * T * u);
     const b = this.b;
     const RT = R_MOLAR * T;
     const A = (a * p) / (RT * RT);
     const B = (b * p) / RT;
-    const Z = largestCubicRoot(-(1 - B), A - 3 * B * B - 2 * B, -(A * B - B * B - B * B * B));
+    const Z = largestCubicRoot(B - 1, A - 3 * B * B - 2 * B, B * B + B * B * B - A * B);
     const L = Math.log((Z + (1 + SQRT2) * B) / (Z + (1 - SQRT2) * B));
     const k = 1 / (2 * SQRT2 * b);
     out.Z = Z;
     out.hRes = RT * (Z - 1) + (T * da - a) * k * L;
     out.sRes = R_MOLAR * Math.log(Z - B) + da * k * L;
     const v = (Z * RT) / p;
+    const vb = v - b;
     const den = v * v + 2 * b * v - b * b;
-    const dpdT = R_MOLAR / (v - b) - da / den;
-    const dpdv = -RT / ((v - b) * (v - b)) + (2 * a * (v + b)) / (den * den);
+    const dpdT = R_MOLAR / vb - da / den;
+    const dpdv = -RT / (vb * vb) + (2 * a * (v + b)) / (den * den);
     out.cpRes = T * d2a * k * L - R_MOLAR - (T * dpdT * dpdT) / dpdv;
+    out.dvdT = -dpdT / dpdv;
     return out;
   }
 }
