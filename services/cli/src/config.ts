@@ -35,6 +35,12 @@ export const environmentSchema = z.object({
     .default('info'),
   LOG_FORMAT: z.enum(['json', 'pretty'], { message: 'must be json or pretty' }).optional(),
   ISENTROPE_DEMO: onOff.optional(),
+  ISENTROPE_DEMO_DAYS: z.coerce
+    .number({ message: 'must be a whole number of days' })
+    .int('must be a whole number of days')
+    .min(2, 'must be between 2 and 730')
+    .max(730, 'must be between 2 and 730')
+    .default(365),
   ISENTROPE_JOBS: onOff.default(true),
   ISENTROPE_INGEST: onOff.default(true),
 });
@@ -49,6 +55,8 @@ export interface Config {
   readonly logFormat: 'json' | 'pretty';
   /** Load and feed the invented demo plant; undefined: only when the database holds no plant yet. */
   readonly demo: boolean | undefined;
+  /** Days of invented history the demo writes on its first start. */
+  readonly demoDays: number;
   readonly runJobs: boolean;
   readonly runIngest: boolean;
 }
@@ -97,6 +105,7 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
     logLevel: e.LOG_LEVEL,
     logFormat: e.LOG_FORMAT ?? (options.stdoutIsTty === true ? 'pretty' : 'json'),
     demo: e.ISENTROPE_DEMO,
+    demoDays: e.ISENTROPE_DEMO_DAYS,
     runJobs: e.ISENTROPE_JOBS,
     runIngest: e.ISENTROPE_INGEST,
   });

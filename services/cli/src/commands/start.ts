@@ -1,9 +1,19 @@
 import { readFile } from 'node:fs/promises';
 import { buildApp } from '@isentrope/api';
+import { prepareDemo, startDemoFeed } from '@isentrope/demo';
 import { migrate, openDatabase } from '@isentrope/store';
+import type pg from 'pg';
 import type { Logger } from 'pino';
 import type { Config } from '../config.js';
 import { Lifecycle } from '../lifecycle.js';
+import { createProgress } from '../progress.js';
+
+/** The demo runs when asked, or by default while the database holds no plant but the demo's. */
+async function wantDemo(config: Config, pool: pg.Pool): Promise<boolean> {
+  if (config.demo !== undefined) return config.demo;
+  const sites = await pool.query<{ slug: string }>('SELECT slug FROM sites');
+  return sites.rows.every((row) => row.slug === 'harbourside');
+}
 
 async function packageVersion(): Promise<string> {
   const text = await readFile(new URL('../../../../package.json', import.meta.url), 'utf8');
@@ -34,6 +44,29 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
   } catch (error) {
     await lifecycle.shutdown('migration failed');
     throw error;
+  }
+
+  if (await wantDemo(config, db.pool)) {
+    const demoLog = logger.child({ module: 'demo' });
+    demoLog.info('loading the invented demo plant "Harbourside Energy Centre" (ISENTROPE_DEMO=off to skip)');
+    const progress = createProgress('demo history', demoLog);
+    const demo = await prepareDemo({
+      pool: db.pool,
+      dataDir: config.dataDir,
+      days: config.demoDays,
+      onHistoryProgress: (done) => progress.update(done),
+    });
+    progress.done(`${demo.samplesWritten} samples`);
+    const feed = await startDemoFeed(demo, {
+      dataDir: config.dataDir,
+      pool: db.pool,
+      onError: (error) => demoLog.error({ err: error }, 'demo live feed failed a step'),
+    });
+    lifecycle.add('demo feed', () => feed.stop());
+    demoLog.info(
+      { opcua: demo.opcuaEndpoint, drop: demo.dropFolder, plantFile: `${config.dataDir}/demo/plant.yaml` },
+      'demo plant live: OPC UA simulator and CSV drops running',
+    );
   }
 
   const app = await buildApp({
