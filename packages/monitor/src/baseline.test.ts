@@ -36,6 +36,31 @@ describe('fitBaseline: polynomial', () => {
     }
   });
 
+  it('matches a reference library for degrees 1, 2 and 3', () => {
+    // Reference: numpy.polyfit(x, y, d, full=True) (NumPy 2.4.6), coefficients reversed
+    // to ascending powers; residual std = sqrt(SSE / (n - d - 1)). Data invented.
+    const x = [0.42, 0.47, 0.51, 0.55, 0.58, 0.63, 0.66, 0.71, 0.74, 0.78, 0.83, 0.86, 0.9, 0.94, 0.97, 1.0];
+    const y = [
+      0.781, 0.795, 0.806, 0.812, 0.821, 0.826, 0.83, 0.836, 0.835, 0.839, 0.838, 0.837, 0.836, 0.832, 0.829,
+      0.824,
+    ];
+    const want: [1 | 2 | 3, number[], number][] = [
+      [1, [0.7738790335322502, 0.0688255812540257], 0.011513920455191243],
+      [2, [0.590286113599067, 0.6151286451404318, -0.38097060167388674], 0.0010567803779576567],
+      [
+        3,
+        [0.581518001542927, 0.6551707640640893, -0.4393856179160361, 0.027343459861457205],
+        0.0010912954046610654,
+      ],
+    ];
+    for (const [degree, coefficients, residualStd] of want) {
+      const b = fitBaseline(x, y, { method: 'polynomial', degree });
+      if (b.kind !== 'polynomial') throw new Error('expected a polynomial baseline');
+      b.coefficients.forEach((c, k) => expect(c).toBeCloseTo(coefficients[k]!, 9));
+      expect(b.residualStd).toBeCloseTo(residualStd, 12);
+    }
+  });
+
   it('flags extrapolation outside the fitted range instead of hiding it', () => {
     const x = [0.5, 0.6, 0.7, 0.8, 0.9, 0.5, 0.7, 0.9];
     const b = fitBaseline(x, x.map(curve), { method: 'polynomial', degree: 1 });

@@ -6,7 +6,7 @@ import { seededNormal } from './synthetic.js';
 
 describe('theilSen', () => {
   it('median of pairwise slopes, Sen intercept and Kendall S (hand-computed)', () => {
-    // x = 1..5, y = 1,3,2,5,4. Pairwise slopes sorted: -1,-1,1/3,1/2,3/4,1,1,4/3,2,3 -> median
+    // x = 1..5, y = 1,3,2,5,4 (scipy.stats.theilslopes agrees: 0.875, 0.125, [-1, 3]). Pairwise slopes sorted: -1,-1,1/3,1/2,3/4,1,1,4/3,2,3 -> median
     // (3/4 + 1)/2 = 0.875; intercept median(y - 0.875 x) = 0.125; S = 8 - 2 = 6;
     // Var(S) = 5*4*15/18 = 16.667. Hand-computed.
     const r = theilSen([1, 2, 3, 4, 5], [1, 3, 2, 5, 4]);
@@ -25,6 +25,25 @@ describe('theilSen', () => {
     const r = theilSen([1, 2, 3, 4, 5], [1, 1, 2, 2, 3]);
     expect(r.varS).toBeCloseTo(264 / 18, 12);
     expect(r.kendallS).toBe(8);
+  });
+
+  it('matches a reference library on 30 points with many ties in y', () => {
+    // Reference: scipy.stats.theilslopes(y, x, 0.95 / 0.90, method='joint'), SciPy 1.17.1: slope
+    // -0.03571428571428571, intercept -0.25357142857142856, 95 % [-0.05, -0.016666666666666663],
+    // 90 % [-0.05, -0.02]. Data invented (rounded noise about a -0.05 slope).
+    const y = [
+      0.8, -1.1, 0, -0.4, -0.4, -0.4, -1.2, -0.5, -0.8, 0.8, -0.5, -0.7, -0.8, -1, -1.2, -1, -0.7, -1, -0.6,
+      -1.1, -1, -0.5, -0.9, -1.4, -1.3, -1.1, -0.6, -1.5, -1.5, -1.1,
+    ];
+    const x = y.map((_, i) => i + 1);
+    const r = theilSen(x, y, 0.95);
+    expect(r.slope).toBeCloseTo(-0.03571428571428571, 12);
+    expect(r.intercept).toBeCloseTo(-0.25357142857142856, 12);
+    expect(r.slopeLow).toBeCloseTo(-0.05, 12);
+    expect(r.slopeHigh).toBeCloseTo(-0.016666666666666663, 12);
+    const r90 = theilSen(x, y, 0.9);
+    expect(r90.slopeLow).toBeCloseTo(-0.05, 12);
+    expect(r90.slopeHigh).toBeCloseTo(-0.02, 12);
   });
 
   it('is robust to an outlier where least squares is not', () => {
