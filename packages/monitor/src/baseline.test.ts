@@ -56,7 +56,7 @@ describe('fitBaseline: polynomial', () => {
     for (const [degree, coefficients, residualStd] of want) {
       const b = fitBaseline(x, y, { method: 'polynomial', degree });
       if (b.kind !== 'polynomial') throw new Error('expected a polynomial baseline');
-      b.coefficients.forEach((c, k) => expect(c).toBeCloseTo(coefficients[k]!, 9));
+      for (const [k, c] of b.coefficients.entries()) expect(c).toBeCloseTo(coefficients[k]!, 9);
       expect(b.residualStd).toBeCloseTo(residualStd, 12);
     }
   });
