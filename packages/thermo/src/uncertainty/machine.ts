@@ -148,6 +148,8 @@ interface Prepared {
   /** The machine as a vector function of the uncertain inputs; outputs in UNCERTAIN_OUTPUTS order, NaN when absent. */
   readonly model: (x: Float64Array) => Float64Array;
   readonly fluid: Fluid;
+  /** The result at the input estimates (the model's first evaluation, or a new one). */
+  readonly baseResult: () => MachineResult;
 }
 
 function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prepared {
@@ -179,6 +181,7 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
   const outlet = { p: input.outlet.p, T: input.outlet.T };
   const work: Mutable<MachineInput> = { ...input, fluid, inlet, outlet };
   const out = new Float64Array(UNCERTAIN_OUTPUTS.length);
+  let first: MachineResult | undefined;
   const model = (x: Float64Array): Float64Array => {
     for (let i = 0; i < keys.length; i++) {
       const value = x[i]!;
@@ -213,6 +216,8 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
       }
     }
     const r = evaluateMachine(work);
+    // The first call is at the input estimates: keep its full result.
+    first ??= r;
     // Spelled out, in UNCERTAIN_OUTPUTS order: named loads are much faster than keyed ones here.
     out[0] = r.isentropicEfficiency ?? Number.NaN;
     out[1] = r.specificWork ?? Number.NaN;
@@ -230,7 +235,14 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
     out[13] = r.massFlow ?? Number.NaN;
     return out;
   };
-  return { keys, x: Float64Array.from(xs), u: Float64Array.from(us), model, fluid };
+  return {
+    keys,
+    x: Float64Array.from(xs),
+    u: Float64Array.from(us),
+    model,
+    fluid,
+    baseResult: () => first ?? evaluateMachine(work),
+  };
 }
 
 export interface MachineWithUncertainty {
@@ -250,10 +262,10 @@ export function evaluateMachineWithUncertainty(
   uncertainties: MachineUncertainties,
 ): MachineWithUncertainty {
   const prepared = prepare(input, uncertainties);
-  // Through the memoised fluid, so the GUM base point below costs no new state.
-  const result = evaluateMachine({ ...input, fluid: prepared.fluid });
-  if (prepared.keys.length === 0) return { result, uncertainty: {} };
+  if (prepared.keys.length === 0) return { result: prepared.baseResult(), uncertainty: {} };
   const gum = propagateGum(prepared.model, prepared.x, prepared.u);
+  // propagateGum evaluates the input estimates first, before any perturbed point.
+  const result = prepared.baseResult();
   const uncertainty: MachineOutputUncertainty = {};
   for (let j = 0; j < UNCERTAIN_OUTPUTS.length; j++) {
     const uj = gum.uncertainty[j]!;
