@@ -1,0 +1,177 @@
+/**
+ * Results writer and watermarks. `writeResults` is an idempotent upsert on (machine_id, time)
+ * through unnest arrays (one statement per batch; works the same on every PostgreSQL).
+ * Written here until packages/store exports its own writer.
+ */
+import type pg from 'pg';
+import type { ResultRow } from '../compute/pipeline.js';
+import type { Queryable } from './machines.js';
+
+const NUM_COLUMNS = [
+  ['p_in', 'pIn'],
+  ['t_in', 'tIn'],
+  ['h_in', 'hIn'],
+  ['s_in', 'sIn'],
+  ['p_out', 'pOut'],
+  ['t_out', 'tOut'],
+  ['h_out', 'hOut'],
+  ['s_out', 'sOut'],
+  ['t_out_s', 'tOutS'],
+  ['h_out_s', 'hOutS'],
+  ['mass_flow', 'massFlow'],
+  ['efficiency', 'efficiency'],
+  ['u_efficiency', 'uEfficiency'],
+  ['polytropic_efficiency', 'polytropicEfficiency'],
+  ['u_polytropic_efficiency', 'uPolytropicEfficiency'],
+  ['specific_work', 'specificWork'],
+  ['u_specific_work', 'uSpecificWork'],
+  ['power', 'power'],
+  ['u_power', 'uPower'],
+  ['entropy_generation', 'entropyGeneration'],
+  ['u_entropy_generation', 'uEntropyGeneration'],
+  ['operating_point', 'operatingPoint'],
+] as const satisfies readonly (readonly [string, keyof ResultRow])[];
+
+/** Monthly partitions of `results`, named as packages/store names them (results_pYYYY_MM). */
+const knownPartitions = new WeakMap<object, Set<string>>();
+
+export async function ensureResultPartitions(pool: pg.Pool, fromMs: number, toMs: number): Promise<void> {
+  let known = knownPartitions.get(pool);
+  if (known === undefined) {
+    known = new Set();
+    knownPartitions.set(pool, known);
+  }
+  const d = new Date(fromMs);
+  for (
+    let k = d.getUTCFullYear() * 12 + d.getUTCMonth();
+    Date.UTC(Math.floor(k / 12), k % 12, 1) <= toMs;
+    k++
+  ) {
+    const y = Math.floor(k / 12);
+    const m = k % 12;
+    const name = `results_p${String(y).padStart(4, '0')}_${String(m + 1).padStart(2, '0')}`;
+    if (known.has(name)) continue;
+    const start = new Date(Date.UTC(y, m, 1)).toISOString();
+    const end = new Date(Date.UTC(y, m + 1, 1)).toISOString();
+    const client = await pool.connect();
+    try {
+      await client.query('BEGIN');
+      // The store's lock for partition DDL, so writers never collide on the catalog.
+      await client.query('SELECT pg_advisory_xact_lock(hashtext($1))', ['isentrope.partitions']);
+      await client.query(
+        `CREATE TABLE IF NOT EXISTS ${name} PARTITION OF results FOR VALUES FROM ('${start}') TO ('${end}')`,
+      );
+      await client.query('COMMIT');
+    } catch (error) {
+      await client.query('ROLLBACK').catch(() => {});
+      throw error;
+    } finally {
+      client.release();
+    }
+    known.add(name);
+  }
+}
+
+/** Upsert result rows (partitions must exist: ensureResultPartitions). */
+export async function writeResults(db: Queryable, rows: readonly ResultRow[]): Promise<void> {
+  const batch = 5000;
+  for (let k = 0; k < rows.length; k += batch) {
+    const part = rows.slice(k, k + batch);
+    const values: unknown[] = [part.map((r) => r.machineId), part.map((r) => r.time)];
+    for (const [, key] of NUM_COLUMNS) values.push(part.map((r) => r[key]));
+    values.push(part.map((r) => r.steady));
+    // text[][] cannot be ragged: flags travel as one '|'-joined text per row.
+    values.push(part.map((r) => r.flags.join('|')));
+    values.push(part.map((r) => r.valid));
+    const n = NUM_COLUMNS.length;
+    const cols = NUM_COLUMNS.map(([c]) => c);
+    const args = NUM_COLUMNS.map((_, i) => `$${i + 3}::float8[]`);
+    await db.query(
+      `INSERT INTO results (machine_id, time, ${cols.join(', ')}, steady, flags, valid, computed_at)
+       SELECT u.m, to_timestamp(u.t / 1000), ${cols.map((_, i) => `u.c${i}`).join(', ')}, u.steady,
+              CASE WHEN u.flags = '' THEN '{}'::text[] ELSE string_to_array(u.flags, '|') END, u.valid, now()
+         FROM unnest($1::int[], $2::float8[], ${args.join(', ')}, $${n + 3}::boolean[], $${n + 4}::text[], $${n + 5}::boolean[])
+           AS u(m, t, ${cols.map((_, i) => `c${i}`).join(', ')}, steady, flags, valid)
+       ON CONFLICT (machine_id, time) DO UPDATE SET
+         ${cols.map((c) => `${c} = EXCLUDED.${c}`).join(', ')},
+         steady = EXCLUDED.steady, flags = EXCLUDED.flags, valid = EXCLUDED.valid, computed_at = EXCLUDED.computed_at`,
+      values,
+    );
+  }
+}
+
+/** Result rows of a machine in [from, to) as ResultRow (for comparisons, the alert job and tests). */
+export async function readResults(
+  db: Queryable,
+  machineId: number,
+  fromMs: number,
+  toMs: number,
+): Promise<ResultRow[]> {
+  const cols = NUM_COLUMNS.map(([c, k]) => `${c} AS "${k}"`).join(', ');
+  const res = await db.query<ResultRow>(
+    `SELECT machine_id AS "machineId", (extract(epoch FROM time) * 1000)::float8 AS time, ${cols}, steady, flags, valid
+       FROM results WHERE machine_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
+      ORDER BY time`,
+    [machineId, fromMs, toMs],
+  );
+  return res.rows;
+}
+
+/** Compute watermark of a machine and the config hash it was computed with. */
+export interface ComputeWatermark {
+  readonly watermarkMs: number;
+  readonly configHash: string;
+}
+
+/**
+ * The compute watermark is stored in job_watermarks as job 'compute', key '<machine id>#<config
+ * hash>': the table has no column for the hash, and a key that carries it makes a config change
+ * visible with no schema change.
+ */
+export async function readComputeWatermark(
+  db: Queryable,
+  machineId: number,
+): Promise<ComputeWatermark | undefined> {
+  const res = await db.query<{ key: string; w: number }>(
+    `SELECT key, (extract(epoch FROM watermark) * 1000)::float8 AS w FROM job_watermarks
+      WHERE job = 'compute' AND split_part(key, '#', 1) = $1`,
+    [String(machineId)],
+  );
+  const row = res.rows[0];
+  if (row === undefined) return undefined;
+  return { watermarkMs: row.w, configHash: row.key.split('#')[1] ?? '' };
+}
+
+export async function writeComputeWatermark(
+  db: Queryable,
+  machineId: number,
+  configHash: string,
+  watermarkMs: number,
+): Promise<void> {
+  await db.query(
+    `DELETE FROM job_watermarks WHERE job = 'compute' AND split_part(key, '#', 1) = $1 AND key <> $2`,
+    [String(machineId), `${machineId}#${configHash}`],
+  );
+  await db.query(
+    `INSERT INTO job_watermarks (job, key, watermark, updated_at) VALUES ('compute', $1, to_timestamp($2::float8 / 1000), now())
+     ON CONFLICT (job, key) DO UPDATE SET watermark = EXCLUDED.watermark, updated_at = now()`,
+    [`${machineId}#${configHash}`, watermarkMs],
+  );
+}
+
+/** A generic watermark (job, key) [ms]. */
+export async function readWatermark(db: Queryable, job: string, key: string): Promise<number | undefined> {
+  const res = await db.query<{ w: number }>(
+    `SELECT (extract(epoch FROM watermark) * 1000)::float8 AS w FROM job_watermarks WHERE job = $1 AND key = $2`,
+    [job, key],
+  );
+  return res.rows[0]?.w;
+}
+
+export async function writeWatermark(db: Queryable, job: string, key: string, ms: number): Promise<void> {
+  await db.query(
+    `INSERT INTO job_watermarks (job, key, watermark, updated_at) VALUES ($1, $2, to_timestamp($3::float8 / 1000), now())
+     ON CONFLICT (job, key) DO UPDATE SET watermark = EXCLUDED.watermark, updated_at = now()`,
+    [job, key, ms],
+  );
+}
