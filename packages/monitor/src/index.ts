@@ -1,5 +1,16 @@
-export * from './alerts.js';
+/**
+ * @isentrope/monitor: pure monitoring logic (no I/O, no clock; times are epoch milliseconds).
+ *
+ * Order of use in the compute and alert jobs:
+ *   alignTags -> validateAligned -> detectSteadyState -> (machine model per point, in thermo)
+ *   -> rollingWindows / bucketStats -> fitBaseline / computeDrift -> stepBand -> stepAlert;
+ *   monthly: bucketStats (daily) -> computeDrift -> degradation (Theil-Sen).
+ * Conventions: values in SI; efficiencies are fractions [-]; drift and degradation rates are in
+ * points of efficiency [%-points] (1 point = 0.01), negative = loss. Errors are MonitorError
+ * subclasses with a stable `code` (MONITOR_ERROR_CODES). Show CAUTION beside every figure.
+ */
 export * from './align.js';
+export * from './alerts.js';
 export * from './bands.js';
 export * from './baseline.js';
 export * from './caution.js';
