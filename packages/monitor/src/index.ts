@@ -9,8 +9,9 @@
  * points of efficiency [%-points] (1 point = 0.01), negative = loss. Errors are MonitorError
  * subclasses with a stable `code` (MONITOR_ERROR_CODES). Show CAUTION beside every figure.
  */
-export * from './align.js';
+
 export * from './alerts.js';
+export * from './align.js';
 export * from './bands.js';
 export * from './baseline.js';
 export * from './caution.js';
