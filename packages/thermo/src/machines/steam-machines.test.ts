@@ -218,4 +218,56 @@ describe('gas compressors on the gas models', () => {
     expect(r.polytropicEfficiency!).toBeGreaterThan(r.isentropicEfficiency!);
     expect(r.valid).toBe(true);
   });
+
+  it('GUM and Monte Carlo agree within 10 % on the Peng-Robinson compressor', () => {
+    const gas = naturalGas({ CH4: 0.9, C2H6: 0.06, C3H8: 0.02, N2: 0.01, CO2: 0.01 }, 'peng-robinson');
+    const input: MachineInput = {
+      kind: 'compressor',
+      fluid: gas,
+      inlet: { p: 40e5, T: 293.15 },
+      outlet: { p: 70e5, T: 340 },
+      massFlow: 30,
+    };
+    const u = {
+      'inlet.p': { kind: 'reading', percent: 0.25 },
+      'inlet.T': { kind: 'absolute', value: 0.5 },
+      'outlet.p': { kind: 'reading', percent: 0.25 },
+      'outlet.T': { kind: 'absolute', value: 0.5 },
+      massFlow: { kind: 'reading', percent: 1 },
+    } as const;
+    const gum = evaluateMachineWithUncertainty(input, u);
+    const mc = machineMonteCarlo(input, u, { trials: 4000, seed: 5 });
+    for (const key of ['isentropicEfficiency', 'polytropicEfficiency', 'polytropicHead', 'power'] as const) {
+      // JCGM 101:2008 section 8; 10 % is the project's acceptance.
+      expect(Math.abs(gum.uncertainty[key]! / mc[key]!.uncertainty - 1)).toBeLessThan(0.1);
+    }
+  });
+});
+
+describe('fan on dry air (ISO 5801)', () => {
+  it('k_p matches its first-order series 1 - x/2 + z/2 for a 3 kPa fan (expansion of the ISO 5801 formula)', () => {
+    const air = dryAir();
+    const p1 = 101325;
+    const pF = 3000;
+    const q = 20; // m3/s at the inlet
+    const shaft = (q * pF) / 0.8;
+    const r = evaluateMachine({
+      kind: 'fan',
+      fluid: air,
+      inlet: { p: p1, T: 293.15 },
+      outlet: { p: p1 + pF, T: 293.15 + 3.7 },
+      volumeFlow: q,
+      shaftPower: shaft,
+    });
+    const kappa = 1.4; // dry air near 20 degC (cp/cv = 1.400, common practice)
+    const x = pF / p1;
+    const z = ((kappa - 1) / kappa) * (shaft / (q * p1));
+    // ln(1+x)/x = 1 - x/2 + O(x^2) and z/ln(1+z) = 1 + z/2 + O(z^2).
+    expect(Math.abs(r.compressibilityCoefficient! - (1 - x / 2 + z / 2))).toBeLessThan(2 * x * x);
+    expect(r.airPower).toBeCloseTo(q * pF * r.compressibilityCoefficient!, 6);
+    expect(r.massFlow! * r.inlet.v).toBeCloseTo(q, 9); // volume flow back through the inlet density
+    expect(r.fanEfficiency!).toBeGreaterThan(0.78);
+    expect(r.fanEfficiency!).toBeLessThan(0.8);
+    expect(r.fanPressureRise).toBe(pF);
+  });
 });

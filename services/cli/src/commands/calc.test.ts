@@ -232,4 +232,33 @@ describe('isentrope calc on steam and gases', () => {
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/uncertainty\.inlet\.T: "2 bar" is not a temperature/);
   });
+
+  it('a wet exhaust without shaft power: no efficiency, outlet enthalpy null, not valid', async () => {
+    const r = await calc({
+      machine: 'turbine',
+      fluid: 'water',
+      inlet: { p: '30 bara', T: '400 degC' },
+      outlet: { p: '0.1 bara', T: '46 degC' },
+      massFlow: '10 kg/s',
+      uncertainty: { massFlow: '1 %' },
+    });
+    expect(r.code).toBe(0);
+    const j = r.json();
+    expect(j.flags).toEqual(['outlet-undetermined']);
+    expect(j.isentropicEfficiency).toBeUndefined();
+    expect(j.specificWork).toBeUndefined();
+    expect((j.outlet as Record<string, unknown>).h).toBeNull();
+    expect(j.valid).toBe(false);
+    const table = await calc(
+      {
+        machine: 'turbine',
+        fluid: 'water',
+        inlet: { p: '30 bara', T: '400 degC' },
+        outlet: { p: '0.1 bara', T: '46 degC' },
+      },
+      [],
+    );
+    expect(table.out).toContain('flags: outlet-undetermined');
+    expect(table.out).toMatch(/valid: NO/);
+  });
 });
