@@ -32,3 +32,32 @@ export class CompositionSumError extends ThermoError {
     this.name = 'CompositionSumError';
   }
 }
+
+/**
+ * h or s asked for lies in a step of the model along the isobar, so no temperature gives it: with
+ * Peng-Robinson the vapour-like root ends (a condensing, two-phase state, which this single-phase
+ * gas model does not represent). Reported rather than answered with the temperature of the step.
+ */
+export class GasStateUndeterminedError extends ThermoError {
+  readonly code = 'THERMO_STATE_UNDETERMINED';
+  constructor(
+    /** "enthalpy h" [J/kg] or "entropy s" [J/(kg K)]. */
+    readonly quantity: string,
+    readonly value: number,
+    readonly unit: string,
+    /** Pressure of the isobar [Pa]. */
+    readonly p: number,
+    /** Temperature of the step [K]. */
+    readonly T: number,
+    /** The quantity just below and just above the step. */
+    readonly below: number,
+    readonly above: number,
+    readonly model: string,
+  ) {
+    super(
+      `${quantity} = ${value} ${unit} at p = ${p} Pa falls in a step of ${model} at T = ${T} K ` +
+        `(from ${below} to ${above} ${unit}): a condensing state, outside this single-phase gas model.`,
+    );
+    this.name = 'GasStateUndeterminedError';
+  }
+}

@@ -1,5 +1,6 @@
 import { ConvergenceError, OutOfRangeError } from '../errors.js';
 import type { Fluid, FluidState } from '../fluid.js';
+import { GasStateUndeterminedError } from './errors.js';
 import { NASA_STANDARD_PRESSURE, NASA_T_MID, NASA7 } from './nasa7.js';
 import { PengRobinsonMixture, type PRResult, R_MOLAR } from './peng-robinson.js';
 import {
@@ -62,6 +63,12 @@ const STEP_TOL = 1e-7;
 const NEWTON_ITERATIONS = 12;
 /** Total cap on iterations (Newton plus bisection): bisection of 200..6000 K to 1e-11 T takes ~40. */
 const MAX_ITERATIONS = 60;
+/**
+ * Largest mismatch accepted where h or s steps in T, relative to R T for h and to R for s: twice
+ * the seam of the NASA fits at 1000 K (hR within 0.05 K at T = 1000 K, i.e. 5e-5 R T; S0/R
+ * within 1e-4).
+ */
+const STEP_MISMATCH = 2e-4;
 /** Bisection stops when the bracket is narrower than this fraction of T (a step of h or s in T). */
 const BRACKET_TOL = 1e-11;
 
@@ -340,17 +347,18 @@ class GasMixture implements GasModel {
         loKnown = true;
       }
       const step = isH ? residual / w[CP]! : (residual * T) / w[CP]!;
-      if (Math.abs(step) <= STEP_TOL * T) return this.finish(p, lnP, T, step, isH, target);
+      // Converged, unless the last step crosses the 1000 K seam of the NASA fits: h and s step
+      // slightly there, so the linear step is not valid across it; one more evaluation settles it.
+      const sameSide = T < NASA_T_MID === T - step < NASA_T_MID;
+      if (Math.abs(step) <= STEP_TOL * T && sameSide) {
+        return this.finish(p, lnP, T, step, isH, target);
+      }
       let next = T - step;
       if (!(next > lo && next < hi) || it >= NEWTON_ITERATIONS) {
         if (!loKnown) loKnown = this.checkEnd(p, lnP, target, isH, this.Tmin);
         if (!hiKnown) hiKnown = this.checkEnd(p, lnP, target, isH, this.Tmax);
         next = 0.5 * (lo + hi);
-        if (hi - lo <= BRACKET_TOL * hi) {
-          // h or s steps across the target here: the nearest T is the answer.
-          this.props(p, next, lnP, true);
-          return this.stateFromScratch(p, next);
-        }
+        if (hi - lo <= BRACKET_TOL * hi) return this.stepState(p, lnP, target, isH, lo, hi);
       }
       T = next;
     }
@@ -379,6 +387,43 @@ class GasMixture implements GasModel {
       s: isH ? w[S]! - (cp / T) * step : target,
       v: w[V]! - w[DVDT]! * step,
     };
+  }
+
+  /**
+   * The bracket [lo, hi] has shrunk to nothing without Newton converging: h or s steps across the
+   * target there. The NASA ranges meet at 1000 K with a step of up to 0.05 K in H/R and 1e-4 in
+   * S0/R (the limits nasa7.test.ts checks), so a mismatch within STEP_MISMATCH of those is the fit's
+   * seam and the state at the step is the answer; a larger step (the Peng-Robinson vapour root
+   * ending) is refused with GasStateUndeterminedError.
+   */
+  private stepState(
+    p: number,
+    lnP: number,
+    target: number,
+    isH: boolean,
+    lo: number,
+    hi: number,
+  ): FluidState {
+    const w = this.w;
+    const T = 0.5 * (lo + hi);
+    this.props(p, T, lnP, true);
+    const f = isH ? w[H]! : w[S]!;
+    const allowed = isH ? STEP_MISMATCH * this.R * T : STEP_MISMATCH * this.R;
+    if (Math.abs(f - target) <= allowed) return this.stateFromScratch(p, T);
+    this.props(p, lo, lnP, true);
+    const below = isH ? w[H]! : w[S]!;
+    this.props(p, hi, lnP, true);
+    const above = isH ? w[H]! : w[S]!;
+    throw new GasStateUndeterminedError(
+      isH ? 'enthalpy h' : 'entropy s',
+      target,
+      isH ? 'J/kg' : 'J/(kg K)',
+      p,
+      T,
+      below,
+      above,
+      this.name,
+    );
   }
 
   /**
