@@ -1,0 +1,195 @@
+/**
+ * Scheduling: node-cron fires the ticks; each tick of each job runs once across every instance.
+ * A tick takes a PostgreSQL session advisory lock on a connection dedicated to its job
+ * (pg_try_advisory_lock; an instance that does not get it skips), then checks job_runs for a run
+ * of the same job and tick time (a second instance whose clock lags must not redo the tick), records
+ * its run, calls the job and records the outcome. The tick only calls the job and logs a failure.
+ */
+import { randomUUID } from 'node:crypto';
+import cron from 'node-cron';
+import pg from 'pg';
+import type { Logger } from 'pino';
+import { type ComputeJobOptions, runComputeOnce } from './compute/job.js';
+
+export type JobName = 'compute' | 'alerts' | 'notifications' | 'monthly' | 'retention';
+
+export interface JobsConfig {
+  readonly webhookUrl?: string;
+  readonly webhookSecret?: string;
+  readonly smtp?: { readonly url: string; readonly from: string; readonly to: string };
+  /** Site time zone for the monthly export (IANA); default UTC. */
+  readonly timeZone?: string;
+  readonly compute?: ComputeJobOptions;
+}
+
+export interface JobsDeps {
+  readonly pool: pg.Pool;
+  readonly databaseUrl: string;
+  readonly logger: Logger;
+  /** Now [ms]; default Date.now. */
+  readonly clock?: () => number;
+  readonly config: JobsConfig;
+  /** Job bodies; the defaults run the compute job and leave the rest to their modules. */
+  readonly jobs?: Partial<Record<JobName, (tickMs: number) => Promise<unknown>>>;
+  /** Do not start node-cron (tests drive runTick themselves). */
+  readonly manual?: boolean;
+}
+
+export type TickOutcome = 'ran' | 'failed' | 'locked' | 'done-elsewhere' | 'no-job';
+
+export interface JobsService {
+  readonly instance: string;
+  /** Run one tick of a job at tick time tickMs (once across instances). */
+  runTick(job: JobName, tickMs: number): Promise<TickOutcome>;
+  /** Stop the schedules and wait for running ticks. */
+  stop(): Promise<void>;
+}
+
+/** Cron expressions (second-resolution where node-cron allows it). */
+export const SCHEDULES: Readonly<Record<JobName, string>> = {
+  compute: '0 * * * * *', // every minute, at second 0
+  alerts: '20 * * * * *', // every minute, after compute
+  notifications: '*/10 * * * * *', // every 10 s
+  monthly: '0 0 2 1 * *', // 02:00 on the 1st, site time
+  retention: '0 30 3 * * *', // daily
+};
+
+/** The tick time a firing belongs to: the start of its period [ms]. */
+export function tickTime(job: JobName, nowMs: number): number {
+  const period = job === 'notifications' ? 10_000 : 60_000;
+  return Math.floor(nowMs / period) * period;
+}
+
+/** A stable 32-bit key per job for pg_try_advisory_lock(int, int). */
+const LOCK_CLASS = 0x15e7; // "isentrope jobs"
+const LOCK_KEYS: Readonly<Record<JobName, number>> = {
+  compute: 1,
+  alerts: 2,
+  notifications: 3,
+  monthly: 4,
+  retention: 5,
+};
+
+export async function startJobs(deps: JobsDeps): Promise<JobsService> {
+  const instance = randomUUID();
+  const log = deps.logger.child({ module: 'jobs', instance });
+  const clock = deps.clock ?? Date.now;
+  const bodies: Partial<Record<JobName, (tickMs: number) => Promise<unknown>>> = {
+    compute: (tickMs) =>
+      runComputeOnce(deps.pool, {
+        ...deps.config.compute,
+        nowMs: tickMs,
+        onMachineError: (machineId, err) => log.error({ err, machineId }, 'compute failed for a machine'),
+      }),
+    ...deps.jobs,
+  };
+  const connections = new Map<JobName, pg.Client>();
+  const running = new Set<Promise<unknown>>();
+  let stopped = false;
+
+  const connection = async (job: JobName): Promise<pg.Client> => {
+    let c = connections.get(job);
+    if (c === undefined) {
+      c = new pg.Client({ connectionString: deps.databaseUrl, application_name: `isentrope-jobs-${job}` });
+      c.on('error', (err) => {
+        log.error({ err, job }, 'lock connection lost');
+        connections.delete(job);
+      });
+      await c.connect();
+      connections.set(job, c);
+    }
+    return c;
+  };
+
+  const tick = async (job: JobName, tickMs: number): Promise<TickOutcome> => {
+    const body = bodies[job];
+    if (body === undefined) return 'no-job';
+    const c = await connection(job);
+    const got = await c.query<{ ok: boolean }>('SELECT pg_try_advisory_lock($1, $2) AS ok', [
+      LOCK_CLASS,
+      LOCK_KEYS[job],
+    ]);
+    if (got.rows[0]?.ok !== true) return 'locked';
+    try {
+      const done = await c.query(
+        `SELECT 1 FROM job_runs WHERE job = $1 AND (stats->>'tick')::float8 = $2 AND status IN ('ok', 'failed') LIMIT 1`,
+        [job, tickMs],
+      );
+      if (done.rows.length > 0) return 'done-elsewhere';
+      const run = await c.query<{ id: number }>(
+        `INSERT INTO job_runs (job, instance, stats) VALUES ($1, $2, jsonb_build_object('tick', $3::float8)) RETURNING id`,
+        [job, instance, tickMs],
+      );
+      const id = run.rows[0]?.id;
+      try {
+        const result = await body(tickMs);
+        await c.query(
+          `UPDATE job_runs SET status = 'ok', finished_at = now(), stats = stats || $2::jsonb WHERE id = $1`,
+          [id, JSON.stringify({ result: result ?? null })],
+        );
+        return 'ran';
+      } catch (err) {
+        log.error({ err, job, tickMs }, 'job failed');
+        await c.query(
+          `UPDATE job_runs SET status = 'failed', finished_at = now(), error = $2 WHERE id = $1`,
+          [id, err instanceof Error ? err.message : String(err)],
+        );
+        return 'failed';
+      }
+    } finally {
+      await c.query('SELECT pg_advisory_unlock($1, $2)', [LOCK_CLASS, LOCK_KEYS[job]]);
+    }
+  };
+
+  const runTick = (job: JobName, tickMs: number): Promise<TickOutcome> => {
+    const p = tick(job, tickMs).catch((err: unknown) => {
+      log.error({ err, job }, 'tick failed');
+      return 'failed' as const;
+    });
+    running.add(p);
+    void p.finally(() => running.delete(p));
+    return p;
+  };
+
+  const tasks: { stop: () => void | Promise<void> }[] = [];
+  if (deps.manual !== true) {
+    // node-cron logs to the console by default; its lines go through our logger instead.
+    cron.setLogger({
+      info: (m) => log.debug({ cron: m }, 'node-cron'),
+      warn: (m) => log.warn({ cron: m }, 'node-cron'),
+      error: (m, err) => log.error({ err: err ?? m }, 'node-cron'),
+      debug: (m) => log.trace({ cron: String(m) }, 'node-cron'),
+    });
+    for (const job of Object.keys(SCHEDULES) as JobName[]) {
+      if (bodies[job] === undefined) continue;
+      const options = {
+        noOverlap: true,
+        name: `isentrope-${job}`,
+        ...(job === 'monthly' ? { timezone: deps.config.timeZone ?? 'UTC' } : {}),
+      };
+      tasks.push(
+        cron.schedule(
+          SCHEDULES[job],
+          async () => {
+            if (!stopped) await runTick(job, tickTime(job, clock()));
+          },
+          options,
+        ),
+      );
+    }
+    // Work missed while no instance ran: compute and alerts catch up through their watermarks.
+    if (bodies.compute !== undefined) void runTick('compute', tickTime('compute', clock()));
+  }
+
+  return {
+    instance,
+    runTick,
+    async stop() {
+      stopped = true;
+      for (const t of tasks) await t.stop();
+      await Promise.allSettled([...running]);
+      for (const c of connections.values()) await c.end().catch(() => {});
+      connections.clear();
+    },
+  };
+}
