@@ -27,6 +27,12 @@ export function evaluatePump(input: MachineInput): MachineResult {
     throw new BadInputError('outlet.p', `pump outlet pressure ${o.p} Pa is below inlet pressure ${i.p} Pa`);
   }
   const flags: MachineFlag[] = [];
+  const tSatIn = fluid.saturationTemperature?.(i.p);
+  if (tSatIn !== undefined && i.T >= tSatIn) {
+    // At or above saturation p and T give steam (or nothing definite): a pump inlet reading
+    // there is a transmitter fault or a flashing suction, never a state to compute with.
+    flags.push('inlet-undetermined');
+  }
   const inlet = fluid.statePT(i.p, i.T);
   const outlet = fluid.statePT(o.p, o.T);
   const outletIsentropic = fluid.statePS(o.p, inlet.s);
@@ -46,6 +52,19 @@ export function evaluatePump(input: MachineInput): MachineResult {
   const isentropicSpecificWork = outletIsentropic.h - inlet.h;
   if (outlet.T < outletIsentropic.T) flags.push('outlet-colder-than-isentropic');
   let thermodynamicEfficiency: number | undefined;
+  if (flags.includes('inlet-undetermined')) {
+    return {
+      kind: 'pump',
+      inlet,
+      outlet,
+      outletIsentropic,
+      isentropicSpecificWork,
+      massFlow,
+      shaftPowerUsed: shaftPower,
+      flags,
+      valid: false,
+    };
+  }
   if (specificWork > 0 && dp > 0) thermodynamicEfficiency = isentropicSpecificWork / specificWork;
   else flags.push('no-work');
   const entropyGeneration = outlet.s - inlet.s;

@@ -167,6 +167,21 @@ describe('water pump on IAPWS-IF97', () => {
   });
 });
 
+describe('water pump inlet checks', () => {
+  it('a pump inlet at or above saturation is undetermined (steam at the suction is no pump state)', () => {
+    const T = saturationTemperature(2e5) + 0.1;
+    const r = evaluateMachine({
+      kind: 'pump',
+      fluid: water,
+      inlet: { p: 2e5, T },
+      outlet: { p: 20e5, T: T + 0.5 },
+    });
+    expect(r.flags).toEqual(['inlet-undetermined']);
+    expect(r.isentropicEfficiency).toBeUndefined();
+    expect(r.valid).toBe(false);
+  });
+});
+
 describe('gas compressors on the gas models', () => {
   // Cengel and Boles, isentropic efficiency of an air compressor example (from memory): air from
   // 100 kPa, 285 K to 800 kPa, 0.2 kg/s, eta_C = 0.80, air tables: h1 = 285.14 kJ/kg,

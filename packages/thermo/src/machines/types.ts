@@ -44,7 +44,7 @@ export type MachineFlag =
   | 'wet-outlet-energy-balance'
   /** Steam outlet possibly wet and no power and flow to close the energy balance: no efficiency. */
   | 'outlet-undetermined'
-  /** Inlet at or below saturation where the machine needs a superheated (turbine) inlet. */
+  /** Turbine inlet at or below saturation, or pump inlet at or above it: p and T fix no usable state. */
   | 'inlet-undetermined'
   /** s_out < s_in beyond its uncertainty (or beyond entropyTolerance): an adiabatic machine cannot. */
   | 'second-law-violation'
