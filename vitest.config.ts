@@ -20,7 +20,11 @@ export default defineConfig({
       {
         test: {
           name: 'db',
-          include: ['packages/*/src/**/*.db.test.ts', 'services/*/src/**/*.db.test.ts', 'test/**/*.db.test.ts'],
+          include: [
+            'packages/*/src/**/*.db.test.ts',
+            'services/*/src/**/*.db.test.ts',
+            'test/**/*.db.test.ts',
+          ],
           exclude: ['**/node_modules/**'],
           globalSetup: ['./test/global-setup.ts'],
           setupFiles: failOnConsole,
