@@ -38,6 +38,19 @@ export function evaluatePump(input: MachineInput): MachineResult {
   const outletIsentropic = fluid.statePS(o.p, inlet.s);
   const massFlow = resolveMassFlow(input, inlet);
   const shaftPower = resolveShaftPower(input);
+  if (flags.includes('inlet-undetermined')) {
+    return {
+      kind: 'pump',
+      inlet,
+      outlet,
+      outletIsentropic,
+      isentropicSpecificWork: outletIsentropic.h - inlet.h,
+      massFlow,
+      shaftPowerUsed: shaftPower,
+      flags,
+      valid: false,
+    };
+  }
   if (massFlow === 0) flags.push('no-flow');
   if (o.p / i.p < LOW_HEAD_RATIO) flags.push('low-head');
   const dp = o.p - i.p;
@@ -52,19 +65,6 @@ export function evaluatePump(input: MachineInput): MachineResult {
   const isentropicSpecificWork = outletIsentropic.h - inlet.h;
   if (outlet.T < outletIsentropic.T) flags.push('outlet-colder-than-isentropic');
   let thermodynamicEfficiency: number | undefined;
-  if (flags.includes('inlet-undetermined')) {
-    return {
-      kind: 'pump',
-      inlet,
-      outlet,
-      outletIsentropic,
-      isentropicSpecificWork,
-      massFlow,
-      shaftPowerUsed: shaftPower,
-      flags,
-      valid: false,
-    };
-  }
   if (specificWork > 0 && dp > 0) thermodynamicEfficiency = isentropicSpecificWork / specificWork;
   else flags.push('no-work');
   const entropyGeneration = outlet.s - inlet.s;
