@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { API_ERRORS, ApiError, formatTemplate, toProblem } from './errors.js';
 
 const doc = readFileSync(new URL('../ERRORS.md', import.meta.url), 'utf8');
-const rows = [...doc.matchAll(/^\| (API_[A-Z_]+) \| (\d{3}) \|/gm)].map((m) => ({
+const rows = [...doc.matchAll(/^\|\s*(API_[A-Z_]+)\s*\|\s*(\d{3})\s*\|/gm)].map((m) => ({
   code: m[1]!,
   status: Number(m[2]),
 }));

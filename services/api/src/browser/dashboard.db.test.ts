@@ -1,0 +1,210 @@
+import { mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { type Browser, chromium, type Page } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { CAUTION } from '../../../../packages/monitor/src/caution.js';
+import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
+import type { ApiApp } from '../app.js';
+import { buildTestApp } from '../test-support/app.js';
+import {
+  createUser,
+  insertAlert,
+  insertComputedResult,
+  insertResults,
+  inventedTurbineResult,
+  seedPlant,
+  setBands,
+  setBaseline,
+} from '../test-support/seed.js';
+
+const HOUR = 3_600_000;
+const ARTIFACTS = new URL('../../../../test-results/api-dashboard/', import.meta.url).pathname;
+
+describe('dashboard in Chromium', () => {
+  let db: TestDatabase;
+  let app: ApiApp;
+  let browser: Browser;
+  let page: Page;
+  let base: string;
+  let configDir: string;
+  let turbineId: number;
+  let alertId: number;
+  const turbine = inventedTurbineResult();
+  const pageErrors: string[] = [];
+
+  beforeAll(async () => {
+    mkdirSync(ARTIFACTS, { recursive: true });
+    db = await createTestDatabase();
+    const plant = await seedPlant(db.pool);
+    turbineId = plant.turbineId;
+    await createUser(db.pool, 'eng', 'engineer', 'engineer-password');
+    await setBands(db.pool, turbineId, 2, 4);
+    await setBaseline(db.pool, turbineId, [0.86], 0, 2);
+    const now = Date.now();
+    const start = Math.floor((now - 7 * 24 * HOUR) / HOUR) * HOUR;
+    // A week of hourly results drifting from 0.85 to 0.83 (invented demo data).
+    await insertResults(
+      db.pool,
+      turbineId,
+      Array.from({ length: 167 }, (_, i) => ({
+        t: start + i * HOUR,
+        efficiency: 0.85 - (0.02 * i) / 167,
+        operatingPoint: 0.9,
+        power: 1.2e7,
+        specificWork: 6e5,
+      })),
+    );
+    await insertComputedResult(db.pool, turbineId, start + 167 * HOUR, turbine, 0.9);
+    alertId = await insertAlert(db.pool, turbineId, 'active_unacknowledged');
+    await db.pool.query(
+      `INSERT INTO quarantine (source, line, column_name, reason, raw) VALUES ('csv:north', 17, 'ST1.PI-100', 'not a number: "n/a"', '2026-03-01T00:00:00Z,n/a')`,
+    );
+    app = await buildTestApp(db.pool);
+    base = await app.listen({ port: 0, host: '127.0.0.1' });
+    configDir = mkdtempSync(join(tmpdir(), 'isentrope-chromium-'));
+    process.env.XDG_CONFIG_HOME = configDir;
+    browser = await chromium.launch({
+      executablePath: '/usr/bin/chromium',
+      args: [
+        '--headless',
+        '--no-sandbox',
+        '--disable-gpu',
+        '--disable-background-networking',
+        '--disable-component-update',
+        '--disable-sync',
+        '--no-first-run',
+      ],
+    });
+    const context = await browser.newContext({
+      acceptDownloads: true,
+      viewport: { width: 1280, height: 900 },
+    });
+    page = await context.newPage();
+    page.on('pageerror', (e) => pageErrors.push(e.message));
+    page.on('console', (m) => {
+      // The first visit is refused with 401 before the sign-in (expected); anything else is a fault.
+      if (m.type() === 'error' && !m.text().includes('status of 401')) pageErrors.push(m.text());
+    });
+  });
+
+  afterAll(async () => {
+    await browser?.close();
+    await app?.close();
+    await db?.drop();
+    if (configDir !== undefined) rmSync(configDir, { recursive: true, force: true });
+  });
+
+  it('sends an anonymous visitor to sign in, then shows the fleet with the caution', async () => {
+    await page.goto(`${base}/`);
+    await page.waitForURL(/login\.html/);
+    await page.fill('#username', 'eng');
+    await page.fill('#password', 'engineer-password');
+    await page.click('button[type=submit]');
+    await page.waitForSelector('#fleet[data-loaded="true"]');
+    const card = page.locator(`[data-machine="${turbineId}"]`);
+    // The newest valid result is the computed one; its efficiency is what the fleet shows.
+    expect(await card.locator('[data-field="efficiency"]').textContent()).toContain(
+      (100 * turbine.isentropicEfficiency!).toFixed(1),
+    );
+    expect(await page.locator('#caution').textContent()).toBe(CAUTION);
+    await page.screenshot({ path: `${ARTIFACTS}fleet.png`, fullPage: true });
+  });
+
+  it('opens a machine: the trend is drawn and the h-s chart puts the points where the computation does', async () => {
+    await page.click(`[data-machine="${turbineId}"]`);
+    await page.waitForSelector('#eff-chart[data-loaded="true"]');
+    await page.waitForSelector('#hs-chart[data-loaded="true"]');
+    expect(Number(await page.getAttribute('#eff-chart', 'data-points'))).toBeGreaterThan(100);
+    expect(await page.locator('#eff-chart canvas').count()).toBeGreaterThan(0);
+    const read = async (role: string) => {
+      const c = page.locator(`#hs-chart circle[data-role="${role}"]`);
+      return {
+        s: Number(await c.getAttribute('data-s')),
+        h: Number(await c.getAttribute('data-h')),
+        cx: Number(await c.getAttribute('cx')),
+        cy: Number(await c.getAttribute('cy')),
+      };
+    };
+    const inlet = await read('inlet');
+    const ideal = await read('outlet-isentropic');
+    const real = await read('outlet');
+    // The state points are those of the thermo turbine model (IAPWS-IF97 through packages/thermo).
+    expect(inlet.s).toBeCloseTo(turbine.inlet.s, 6);
+    expect(inlet.h).toBeCloseTo(turbine.inlet.h, 6);
+    expect(ideal.h).toBeCloseTo(turbine.outletIsentropic.h, 6);
+    expect(real.h).toBeCloseTo(turbine.outlet.h, 6);
+    // Drawn: ideal exit straight below the inlet (same entropy), real exit to its right and above it.
+    expect(ideal.cx).toBeCloseTo(inlet.cx, 1);
+    expect(ideal.cy).toBeGreaterThan(inlet.cy);
+    expect(real.cx).toBeGreaterThan(ideal.cx);
+    expect(real.cy).toBeLessThan(ideal.cy);
+    expect(await page.locator('#hs-chart path[data-role="dome"]').count()).toBe(1);
+    expect(await page.locator('#hs-note').textContent()).toContain('entropy generation');
+    await page.screenshot({ path: `${ARTIFACTS}machine.png`, fullPage: true });
+  });
+
+  it('zooms: a drag on the trend asks the server for the narrower range', async () => {
+    const before = await page.getAttribute('#eff-chart', 'data-from');
+    const over = page.locator('#eff-chart .u-over');
+    const box = (await over.boundingBox())!;
+    await page.mouse.move(box.x + box.width * 0.4, box.y + box.height / 2);
+    await page.mouse.down();
+    await page.mouse.move(box.x + box.width * 0.6, box.y + box.height / 2, { steps: 5 });
+    await page.mouse.up();
+    await page.waitForFunction(
+      (b) =>
+        (
+          globalThis as unknown as {
+            document: { getElementById(id: string): { dataset: Record<string, string> } | null };
+          }
+        ).document.getElementById('eff-chart')?.dataset.from !== b,
+      before,
+    );
+    const from = Date.parse((await page.getAttribute('#eff-chart', 'data-from'))!);
+    const to = Date.parse((await page.getAttribute('#eff-chart', 'data-to'))!);
+    // 20 % of a 7-day window is about 1.4 days.
+    expect((to - from) / HOUR).toBeGreaterThan(24);
+    expect((to - from) / HOUR).toBeLessThan(48);
+  });
+
+  it('acknowledges an alert from the alerts page', async () => {
+    await page.goto(`${base}/alerts.html`);
+    await page.waitForSelector('#alerts[data-loaded="true"]');
+    await page.click(`tr[data-alert="${alertId}"] button[data-action="acknowledge"]`);
+    await page.waitForSelector(`tr[data-alert="${alertId}"][data-state="active_acknowledged"]`);
+    const { rows } = await db.pool.query<{ state: string; acknowledged_by: string }>(
+      `SELECT state, acknowledged_by FROM alerts WHERE id = $1`,
+      [alertId],
+    );
+    expect(rows[0]).toEqual({ state: 'active_acknowledged', acknowledged_by: 'eng' });
+    await page.screenshot({ path: `${ARTIFACTS}alerts.png`, fullPage: true });
+  });
+
+  it('lists quarantined rows', async () => {
+    await page.goto(`${base}/quarantine.html`);
+    await page.waitForSelector('#quarantine[data-loaded="true"]');
+    expect(await page.locator('#quarantine tbody').textContent()).toContain('not a number');
+    expect(await page.locator('#caution').textContent()).toBe(CAUTION);
+  });
+
+  it('makes and downloads a monthly CSV report', async () => {
+    await page.goto(`${base}/exports.html`);
+    await page.waitForSelector('#exports[data-loaded="true"]');
+    await page.fill('#month', new Date().toISOString().slice(0, 7));
+    await page.click('#make');
+    await page.waitForSelector('a[data-download]');
+    const [download] = await Promise.all([page.waitForEvent('download'), page.click('a[data-download]')]);
+    const path = `${ARTIFACTS}${download.suggestedFilename()}`;
+    await download.saveAs(path);
+    const csv = readFileSync(path, 'utf8');
+    expect(csv.charCodeAt(0)).toBe(0xfeff);
+    expect(csv).toContain('st1');
+    expect(csv.trimEnd().split('\r\n').at(-1)).toBe(`"# ${CAUTION}"`);
+    await page.screenshot({ path: `${ARTIFACTS}exports.png`, fullPage: true });
+  });
+
+  it('ran every page without a script error or a refused resource (CSP)', () => {
+    expect(pageErrors).toEqual([]);
+  });
+});

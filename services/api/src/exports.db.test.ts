@@ -1,0 +1,203 @@
+import { CAUTION } from '@isentrope/monitor';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
+import type { ApiApp } from './app.js';
+import { gatherMonthlyInput } from './queries/monthly.js';
+import { buildMonthlyReport } from './report.js';
+import { buildTestApp } from './test-support/app.js';
+import {
+  createToken,
+  createUser,
+  insertResults,
+  type SeededPlant,
+  seedPlant,
+  setBands,
+  setBaseline,
+} from './test-support/seed.js';
+
+const HOUR = 3_600_000;
+const DAY = 86_400_000;
+
+/**
+ * Known results (invented): March 2026 (744 h) for the compressor, hourly, load x = 0.8 so that
+ * the baseline 0.80 + 0.05 x = 0.84; efficiency falls linearly by 0.1 point per day from 0.83;
+ * power 2 MW; 24 invalid results that must not count. February: efficiency 0.835 throughout.
+ * Turbine: baseline 0.88 flat, efficiency 0.85, 10 MW, only the first 15 days of March.
+ */
+describe('monthly degradation export against the stored results', () => {
+  let db: TestDatabase;
+  let app: ApiApp;
+  let plant: SeededPlant;
+  let token: string;
+  const march = Date.UTC(2026, 2, 1);
+  const feb = Date.UTC(2026, 1, 1);
+  const effAt = (i: number): number => 0.83 - (0.001 * i) / 24;
+
+  beforeAll(async () => {
+    db = await createTestDatabase();
+    plant = await seedPlant(db.pool);
+    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'viewer', 'planner-password'));
+    await setBaseline(db.pool, plant.compressorId, [0.8, 0.05], 0.4, 1);
+    await setBands(db.pool, plant.compressorId, 2, 4);
+    await setBaseline(db.pool, plant.turbineId, [0.88], 0, 2);
+    await insertResults(
+      db.pool,
+      plant.compressorId,
+      Array.from({ length: 28 * 24 }, (_, i) => ({
+        t: feb + i * HOUR,
+        efficiency: 0.835,
+        operatingPoint: 0.8,
+        power: 2e6,
+      })),
+    );
+    await insertResults(
+      db.pool,
+      plant.compressorId,
+      Array.from({ length: 744 }, (_, i) => ({
+        t: march + i * HOUR,
+        efficiency: effAt(i),
+        operatingPoint: 0.8,
+        power: 2e6,
+        valid: i % 31 !== 7, // 24 invalid results in the month
+      })),
+    );
+    await insertResults(
+      db.pool,
+      plant.turbineId,
+      Array.from({ length: 15 * 24 }, (_, i) => ({
+        t: march + i * HOUR,
+        efficiency: 0.85,
+        operatingPoint: 1,
+        power: 1e7,
+      })),
+    );
+    app = await buildTestApp(db.pool, { energyPrice: { perMWh: 90, currency: 'EUR' } });
+  });
+  afterAll(async () => {
+    await app?.close();
+    await db?.drop();
+  });
+
+  /** The expected figures, summed here from the same seeded rows (definition in packages/monitor/src/report/monthly.ts). */
+  function expectedCompressor() {
+    let e = 0;
+    let sumEta = 0;
+    let n = 0;
+    for (let i = 0; i < 744; i++) {
+      if (i % 31 === 7) continue;
+      const eta = effAt(i);
+      e += 2e6 * (1 - eta / 0.84) * 3600; // [J] one hour per result
+      sumEta += eta;
+      n++;
+    }
+    return { mwh: e / 3.6e9, meanEta: sumEta / n, n };
+  }
+
+  it('gathers and builds figures equal to the stored results', async () => {
+    const report = buildMonthlyReport(
+      await gatherMonthlyInput(db.pool, '2026-03', {
+        price: { perMWh: 90, currency: 'EUR' },
+        generatedAtMs: 0,
+      }),
+    );
+    const ac = report.machines.find((m) => m.machineId === plant.compressorId)!;
+    const exp = expectedCompressor();
+    expect(ac.resultsValid).toBe(exp.n);
+    expect(ac.resultsTotal).toBe(744);
+    expect(ac.intervalMs).toBe(HOUR);
+    expect(ac.coverage).toBeCloseTo(720 / 744, 12);
+    expect(ac.meanEfficiency).toBeCloseTo(exp.meanEta, 12);
+    expect(ac.driftPts).toBeCloseTo(100 * (exp.meanEta - 0.84), 9);
+    // February drift: 0.835 - 0.84 = -0.5 points.
+    expect(ac.driftChangePts).toBeCloseTo(100 * (exp.meanEta - 0.84) + 0.5, 9);
+    expect(ac.energyLostMWh).toBeCloseTo(exp.mwh, 9);
+    expect(ac.cost).toBeCloseTo(exp.mwh * 90, 6);
+    // Linear loss of 0.1 point/day: Theil-Sen on daily means gives -0.1 x 30.44 points/month
+    // (collinear daily means within March; February's flat days pull the median slope towards 0,
+    // so only March's days are checked here by the sign and the forecast status).
+    expect(ac.ratePtsPerMonth).toBeLessThan(0);
+    const st = report.machines.find((m) => m.machineId === plant.turbineId)!;
+    // 10 MW x (0.88/0.85 - 1) x 360 h (hand calculation from the definition).
+    expect(st.energyLostMWh).toBeCloseTo(10 * (0.88 / 0.85 - 1) * 360, 9);
+    expect(st.coverage).toBeCloseTo(360 / 744, 12);
+    expect(st.forecast.status).toBe('none'); // no bands on the turbine
+    expect(report.totals.energyLostMWh).toBeCloseTo(exp.mwh + 10 * (0.88 / 0.85 - 1) * 360, 9);
+  });
+
+  it('makes the CSV through the API, with the same figures, and serves it for download', async () => {
+    const made = await app.inject({
+      method: 'POST',
+      url: '/api/exports',
+      headers: { authorization: `Bearer ${token}` },
+      payload: { month: '2026-03', format: 'csv' },
+    });
+    expect(made.statusCode).toBe(201);
+    const x = made.json<{ id: number; download: string; checksum: string }>();
+    const dl = await app.inject({
+      method: 'GET',
+      url: x.download,
+      headers: { authorization: `Bearer ${token}` },
+    });
+    expect(dl.statusCode).toBe(200);
+    expect(dl.headers['content-type']).toMatch(/^text\/csv; charset=utf-8/);
+    expect(dl.headers['content-disposition']).toBe(
+      'attachment; filename="isentrope-degradation-2026-03.csv"',
+    );
+    const text = dl.body;
+    expect(text.charCodeAt(0)).toBe(0xfeff);
+    const lines = text.slice(1).trimEnd().split('\r\n');
+    const header = lines[0]!.split(',');
+    const ac = lines.find((l) => l.includes(',ac1,'))!.split(',');
+    const col = (name: string) => ac[header.indexOf(name)];
+    const exp = expectedCompressor();
+    expect(col('energy_lost_mwh')).toBe(exp.mwh.toFixed(3));
+    expect(col('cost')).toBe((exp.mwh * 90).toFixed(2));
+    expect(col('currency')).toBe('EUR');
+    expect(col('mean_efficiency_pct')).toBe((100 * exp.meanEta).toFixed(3));
+    expect(col('coverage_pct')).toBe(((100 * 720) / 744).toFixed(1));
+    expect(lines.at(-1)).toBe(`"# ${CAUTION}"`);
+  });
+
+  it('makes the printable HTML and the JSON; lists exports newest first', async () => {
+    for (const format of ['html', 'json'] as const) {
+      const made = await app.inject({
+        method: 'POST',
+        url: '/api/exports',
+        headers: { authorization: `Bearer ${token}` },
+        payload: { month: '2026-03', format },
+      });
+      expect(made.statusCode).toBe(201);
+      const dl = await app.inject({
+        method: 'GET',
+        url: made.json<{ download: string }>().download,
+        headers: { authorization: `Bearer ${token}` },
+      });
+      expect(dl.body).toContain(format === 'html' ? '<svg' : '"energyLostMWh"');
+      expect(dl.body).toContain(CAUTION);
+    }
+    const list = await app.inject({
+      method: 'GET',
+      url: '/api/exports?limit=2',
+      headers: { authorization: `Bearer ${token}` },
+    });
+    const page = list.json<{ items: { format: string }[]; next: string | null }>();
+    expect(page.items.map((i) => i.format)).toEqual(['json', 'html']);
+    expect(page.next).not.toBeNull();
+  });
+
+  it('daily drift for the rate is taken from the stored days', async () => {
+    const input = await gatherMonthlyInput(db.pool, '2026-03', { rateWindowDays: 31 });
+    const ac = input.machines.find((m) => m.machineId === plant.compressorId)!;
+    expect(ac.dailyDrift.t.length).toBe(31);
+    // Day 0 of March: mean of effAt(0..23) except i = 7, minus 0.84, in points.
+    let s = 0;
+    let n = 0;
+    for (let i = 0; i < 24; i++)
+      if (i % 31 !== 7) {
+        s += effAt(i);
+        n++;
+      }
+    expect(ac.dailyDrift.driftPts[0]).toBeCloseTo(100 * (s / n - 0.84), 9);
+    expect(ac.dailyDrift.t[0]).toBe(march + DAY / 2);
+  });
+});
