@@ -115,7 +115,7 @@ describe('isentrope calc', () => {
   it('a temperature where a pressure belongs exits 2 naming the field', async () => {
     const r = await calc({ ...pumpCase, outlet: { p: '20 degC', T: '20 degC' } });
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/outlet\.p: .*temperature unit, not pressure/);
+    expect(r.err).toMatch(/outlet\.p: "20 degC" is a temperature, not a pressure/);
   });
 
   it('a pump outlet below its inlet exits 2 naming outlet.p', async () => {
@@ -260,5 +260,35 @@ describe('isentrope calc on steam and gases', () => {
     );
     expect(table.out).toContain('flags: outlet-undetermined');
     expect(table.out).toMatch(/valid: NO/);
+  });
+
+  it('a fan with draft pressures in mmH2O (gauge, against ambient) on dry air', async () => {
+    const r = await calc({
+      machine: 'fan',
+      fluid: 'air',
+      ambient: '1013.25 mbar',
+      inlet: { p: '-50 mmH2O', T: '20 degC' },
+      outlet: { p: '250 mmH2O', T: '23 degC' },
+      volumeFlow: '36000 m3/h',
+      shaftPower: '37 kW',
+    });
+    expect(r.err).toBe('');
+    const j = r.json();
+    // 300 mmH2O x 9.80665 Pa/mm (conventional, NIST SP 811) = 2942 Pa fan pressure.
+    expect(j.fanPressureRise as number).toBeCloseTo(300 * 9.80665, 6);
+    // Air power = q_V1 p_F k_p (ISO 5801) with q_V1 = 10 m3/s.
+    expect(j.airPower as number).toBeCloseTo(
+      (10 * 300 * 9.80665 * (j.compressibilityCoefficient as number)) / 1e3,
+      6,
+    );
+    expect(j.fanEfficiency as number).toBeCloseTo((j.airPower as number) / 37, 9);
+    const noAmbient = await calc({
+      machine: 'fan',
+      fluid: 'air',
+      inlet: { p: '1013.25 mbar', T: '20 degC' },
+      outlet: { p: '250 mmH2O', T: '23 degC' },
+    });
+    expect(noAmbient.code).toBe(2);
+    expect(noAmbient.err).toMatch(/outlet\.p: .*gauge \(draft\) pressure: give "ambient"/);
   });
 });

@@ -50,6 +50,7 @@ Case: {"machine": "turbine"|"compressor"|"pump"|"fan",
        "massFlow": "12 t/h", "volumeFlow": "2 m3/s", "shaftPower": "2 MW",
        "electricalPower": "1.9 MW", "driverEfficiency": 0.97, "wetMargin": "2 K",
        "uncertainty": {"inlet.p": "0.5 %", "inlet.T": "1 K", "massFlow": {"percentOfSpan": 0.5, "span": "50 t/h"}}}
+Pressures in mmH2O or inH2O (fan and draft tags) are gauge: they need "ambient".
 An uncertainty "x %" is a percent of the reading; a quantity with a unit is absolute.
 Exit codes: 0 done, 2 bad case, 1 unexpected failure.
 `;
@@ -165,11 +166,23 @@ export function parseCase(raw: unknown): { input: MachineInput; uncertainties: M
     text === undefined
       ? undefined
       : at(path, problems, () => parseQuantity(text, { ...unitOptions, dimension }).valueSI);
-  const inlet = { p: num('inlet.p', c.inlet.p, 'pressure'), T: num('inlet.T', c.inlet.T, 'temperature') };
-  const outlet = {
-    p: num('outlet.p', c.outlet.p, 'pressure'),
-    T: num('outlet.T', c.outlet.T, 'temperature'),
-  };
+  /** A pressure [Pa] absolute; draft units (mmH2O, inH2O) are read as gauge pressures, as fan tags are. */
+  const pressure = (path: string, text: string): number | undefined =>
+    at(path, problems, () => {
+      const q = parseQuantity(text, unitOptions);
+      if (q.dimension === 'pressure') return q.valueSI;
+      if (q.dimension === 'pressureDifference') {
+        if (ambient === undefined) {
+          throw new CaseErrorSignal(
+            `"${text}" is a gauge (draft) pressure: give "ambient" to make it absolute`,
+          );
+        }
+        return ambient + q.valueSI;
+      }
+      throw new CaseErrorSignal(`"${text}" is a ${q.dimension}, not a pressure`);
+    });
+  const inlet = { p: pressure('inlet.p', c.inlet.p), T: num('inlet.T', c.inlet.T, 'temperature') };
+  const outlet = { p: pressure('outlet.p', c.outlet.p), T: num('outlet.T', c.outlet.T, 'temperature') };
   let massFlow: number | undefined;
   if (c.massFlow !== undefined) {
     massFlow = at('massFlow', problems, () => {
