@@ -47,6 +47,12 @@ export interface GasModel extends Fluid {
 }
 
 const T_REF = 298.15; // [K], h = 0 here
+/**
+ * Module-local copies of the NASA constants for the hot paths: read as plain constants rather
+ * than imported bindings, which a transpiler (tsx, vitest) may turn into getter calls.
+ */
+const T_MID = NASA_T_MID; // [K]
+const P0 = NASA_STANDARD_PRESSURE; // [Pa]
 /** Lowest temperature the models accept [K]: the lower limit of the NASA fits of most species. */
 const T_LOW = 200;
 /** Highest pressure accepted [Pa]: 100 MPa, well beyond plant gas service. */
@@ -206,7 +212,7 @@ class GasMixture implements GasModel {
    * Peng-Robinson departures (used for the first guess). No range check: callers check.
    */
   private props(p: number, T: number, lnP: number, real: boolean): void {
-    const c = T < NASA_T_MID ? this.cLow : this.cHigh;
+    const c = T < T_MID ? this.cLow : this.cHigh;
     const R = this.R;
     let h = R * (hornerHR(c, T) - this.hRef);
     let s = R * (hornerSR(c, T) + this.mixS - lnP);
@@ -246,13 +252,13 @@ class GasMixture implements GasModel {
 
   statePT(p: number, T: number): FluidState {
     this.check(p, T);
-    this.props(p, T, Math.log(p / NASA_STANDARD_PRESSURE), true);
+    this.props(p, T, Math.log(p / P0), true);
     return this.stateFromScratch(p, T);
   }
 
   cp(T: number, p: number): number {
     this.check(p, T);
-    this.props(p, T, Math.log(p / NASA_STANDARD_PRESSURE), true);
+    this.props(p, T, Math.log(p / P0), true);
     return this.w[CP]!;
   }
 
@@ -284,7 +290,7 @@ class GasMixture implements GasModel {
     const w = this.w;
     for (let it = 0; it < 6; it++) {
       T = this.intoRange(T);
-      this.props(NASA_STANDARD_PRESSURE, T, lnP, false);
+      this.props(P0, T, lnP, false);
       const step = isH ? (w[H]! - target) / w[CP]! : ((w[S]! - target) * T) / w[CP]!;
       T -= step;
       if (Math.abs(step) < 1e-3) break; // 1 mK is plenty for a starting point
@@ -312,7 +318,7 @@ class GasMixture implements GasModel {
     if (!Number.isFinite(target)) {
       throw new OutOfRangeError(isH ? 'enthalpy h' : 'entropy s', target, '', -Infinity, Infinity, this.name);
     }
-    const lnP = Math.log(p / NASA_STANDARD_PRESSURE);
+    const lnP = Math.log(p / P0);
     let T: number;
     if (TGuess === undefined) {
       T = this.guess(target, isH, lnP);
@@ -349,7 +355,7 @@ class GasMixture implements GasModel {
       const step = isH ? residual / w[CP]! : (residual * T) / w[CP]!;
       // Converged, unless the last step crosses the 1000 K seam of the NASA fits: h and s step
       // slightly there, so the linear step is not valid across it; one more evaluation settles it.
-      const sameSide = T < NASA_T_MID === T - step < NASA_T_MID;
+      const sameSide = T < T_MID === T - step < T_MID;
       if (Math.abs(step) <= STEP_TOL * T && sameSide) {
         return this.finish(p, lnP, T, step, isH, target);
       }
