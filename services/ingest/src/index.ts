@@ -1,10 +1,15 @@
+export * from './buffer.js';
 export * from './csv/file.js';
 export * from './csv/format.js';
 export type { CsvHandlers, CsvSummary, QuarantineEntry, QuarantineReason } from './csv/parse.js';
 export { parseCsv, parseQuality, parseValue } from './csv/parse.js';
 export { BUILT_IN_TIME_FORMATS, ZoneResolver } from './csv/time.js';
+export { CsvWatcher, globToRegExp } from './csv/watch.js';
 export * from './errors.js';
+export * from './forward.js';
 export * from './http.js';
 export * from './metrics.js';
+export * from './opcua.js';
+export * from './service.js';
 export * from './tags.js';
 export * from './types.js';
