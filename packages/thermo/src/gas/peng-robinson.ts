@@ -73,36 +73,26 @@ export function largestCubicRoot(c2: number, c1: number, c0: number): number {
 /**
  * Peng-Robinson parameters of one mixture, computed once; evaluate() does no allocation.
  *
- * With sqrt(a_i(T)) = |q_i|, q_i = sqrt(ac_i) [1 + kappa_i (1 - sqrt(T/Tc_i))] = alpha_i - beta_i u,
- * u = sqrt(T), alpha_i = sqrt(ac_i) (1 + kappa_i), beta_i = sqrt(ac_i) kappa_i/sqrt(Tc_i), the
- * mixing rule a = sum x_i x_j (1 - k_ij) sqrt(a_i a_j) is exactly a quadratic in u while every q_i
- * is positive, i.e. below T_i = Tc_i (1 + 1/kappa_i)^2 for each species with kappa_i > 0:
+ * sqrt(a_i(T)) is taken as q_i = sqrt(ac_i) [1 + kappa_i (1 - sqrt(T/Tc_i))] = alpha_i - beta_i u,
+ * u = sqrt(T), alpha_i = sqrt(ac_i) (1 + kappa_i), beta_i = sqrt(ac_i) kappa_i/sqrt(Tc_i). The
+ * mixing rule a = sum x_i x_j (1 - k_ij) q_i q_j is then exactly a quadratic in u:
  *   a(T) = A0 - 2 A1 u + A2 u^2,
  * A0 = sum x_i x_j c_ij alpha_i alpha_j, A1 = sum x_i x_j c_ij (alpha_i beta_j + beta_i alpha_j)/2,
  * A2 = sum x_i x_j c_ij beta_i beta_j, c_ij = 1 - k_ij. The double sum over species is done once
  * here instead of at every temperature, so one evaluation costs one square root whatever the
- * number of species. Above the lowest T_i (N2 about 1390 K, CH4 about 2400 K) the alpha function
- * has passed through zero and the double sum is done per call with |q_i|.
+ * number of species.
+ * q_i q_j is the printed sqrt(a_i a_j) while every q_i > 0, i.e. below Tc_i (1 + 1/kappa_i)^2
+ * (N2 about 1390 K, CH4 about 2400 K). Above it the alpha function of the equation has passed
+ * through zero and q_i changes sign; keeping the sign (the same analytic expression continued)
+ * keeps a(T) smooth, whereas |q_i| would put a step into h and s of a mixture at that temperature.
  */
 export class PengRobinsonMixture {
   /** Mixture co-volume b [m3/mol]. */
   readonly b: number;
-  /** a(T) = A0 - 2 A1 sqrt(T) + A2 T [Pa m6/mol2] below quadraticUpTo; A1 in [Pa m6/(mol2 K^0.5)], A2 in [Pa m6/(mol2 K)]. */
+  /** a(T) = A0 - 2 A1 sqrt(T) + A2 T [Pa m6/mol2]; A1 in [Pa m6/(mol2 K^0.5)], A2 in [Pa m6/(mol2 K)]. */
   readonly A0: number;
   readonly A1: number;
   readonly A2: number;
-  /** Highest temperature [K] at which every q_i > 0, so the quadratic form holds. */
-  readonly quadraticUpTo: number;
-  private readonly n: number;
-  private readonly x: Float64Array;
-  private readonly alpha: Float64Array;
-  private readonly beta: Float64Array;
-  /** c_ij = 1 - k_ij, row-major n x n. */
-  private readonly cij: Float64Array;
-  /** |q_i| and its first and second T-derivatives, scratch for the general path. */
-  private readonly q: Float64Array;
-  private readonly dq: Float64Array;
-  private readonly d2q: Float64Array;
 
   constructor(
     species: readonly SpeciesData[],
@@ -111,42 +101,32 @@ export class PengRobinsonMixture {
     kij: (a: SpeciesData, b: SpeciesData) => number,
   ) {
     const n = species.length;
-    this.n = n;
-    this.x = Float64Array.from(moleFractions);
-    this.alpha = new Float64Array(n);
-    this.beta = new Float64Array(n);
-    this.cij = new Float64Array(n * n);
-    this.q = new Float64Array(n);
-    this.dq = new Float64Array(n);
-    this.d2q = new Float64Array(n);
+    const alpha = new Float64Array(n);
+    const beta = new Float64Array(n);
     let b = 0;
-    let upTo = Number.POSITIVE_INFINITY;
     for (let i = 0; i < n; i++) {
       const s = species[i]!;
       const sqrtAc = Math.sqrt((PR_OMEGA_A * R_MOLAR * R_MOLAR * s.Tc * s.Tc) / s.Pc);
       const kappa = 0.37464 + 1.54226 * s.omega - 0.26992 * s.omega * s.omega;
-      this.alpha[i] = sqrtAc * (1 + kappa);
-      this.beta[i] = (sqrtAc * kappa) / Math.sqrt(s.Tc);
-      if (kappa > 0) upTo = Math.min(upTo, s.Tc * (1 + 1 / kappa) ** 2);
+      alpha[i] = sqrtAc * (1 + kappa);
+      beta[i] = (sqrtAc * kappa) / Math.sqrt(s.Tc);
       b += moleFractions[i]! * ((PR_OMEGA_B * R_MOLAR * s.Tc) / s.Pc);
-      for (let j = 0; j < n; j++) this.cij[i * n + j] = 1 - (i === j ? 0 : kij(s, species[j]!));
     }
     let A0 = 0;
     let A1 = 0;
     let A2 = 0;
     for (let i = 0; i < n; i++) {
       for (let j = 0; j < n; j++) {
-        const w = this.x[i]! * this.x[j]! * this.cij[i * n + j]!;
-        A0 += w * this.alpha[i]! * this.alpha[j]!;
-        A1 += 0.5 * w * (this.alpha[i]! * this.beta[j]! + this.beta[i]! * this.alpha[j]!);
-        A2 += w * this.beta[i]! * this.beta[j]!;
+        const w = moleFractions[i]! * moleFractions[j]! * (1 - (i === j ? 0 : kij(species[i]!, species[j]!)));
+        A0 += w * alpha[i]! * alpha[j]!;
+        A1 += 0.5 * w * (alpha[i]! * beta[j]! + beta[i]! * alpha[j]!);
+        A2 += w * beta[i]! * beta[j]!;
       }
     }
     this.b = b;
     this.A0 = A0;
     this.A1 = A1;
     this.A2 = A2;
-    this.quadraticUpTo = upTo;
   }
 
   /**
@@ -154,34 +134,9 @@ export class PengRobinsonMixture {
    * [Pa m6/(mol2 K2)] at T [K], into out[0..2]; u = sqrt(T), passed in as evaluate() has it.
    */
   attraction(T: number, out: Float64Array, u = Math.sqrt(T)): void {
-    if (T <= this.quadraticUpTo) {
-      out[0] = this.A0 - 2 * this.A1 * u + this.A2 * T;
-      out[1] = this.A2 - this.A1 / u;
-      out[2] = this.A1 / (2 * T * u);
-      return;
-    }
-    const { n, x, alpha, beta, cij, q, dq, d2q } = this;
-    for (let i = 0; i < n; i++) {
-      const qi = alpha[i]! - beta[i]! * u;
-      const sign = qi < 0 ? -1 : 1;
-      q[i] = sign * qi;
-      dq[i] = (-sign * beta[i]!) / (2 * u);
-      d2q[i] = (sign * beta[i]!) / (4 * T * u);
-    }
-    let a = 0;
-    let da = 0;
-    let d2a = 0;
-    for (let i = 0; i < n; i++) {
-      for (let j = 0; j < n; j++) {
-        const w = x[i]! * x[j]! * cij[i * n + j]!;
-        a += w * q[i]! * q[j]!;
-        da += w * (dq[i]! * q[j]! + q[i]! * dq[j]!);
-        d2a += w * (d2q[i]! * q[j]! + 2 * dq[i]! * dq[j]! + q[i]! * d2q[j]!);
-      }
-    }
-    out[0] = a;
-    out[1] = da;
-    out[2] = d2a;
+    out[0] = this.A0 - 2 * this.A1 * u + this.A2 * T;
+    out[1] = this.A2 - this.A1 / u;
+    out[2] = this.A1 / (2 * T * u);
   }
 
   private readonly aScratch = new Float64Array(3);

@@ -162,42 +162,50 @@ describe('Peng-Robinson a(T) precomputed as A0 - 2 A1 sqrt(T) + A2 T (algebraic 
   const k = (a: string, b: string) =>
     (a === 'CH4' && b === 'CO2') || (a === 'CO2' && b === 'CH4') ? 0.09 : 0;
   const pr = new PengRobinsonMixture(sp, x, (a, b) => k(a.id, b.id));
-  /** The mixing rule as printed: a = sum x_i x_j (1 - k_ij) sqrt(a_i a_j), a_i = ac_i alpha_i(T). */
-  const direct = (T: number) => {
-    const ai = sp.map((s) => {
-      const kappa = 0.37464 + 1.54226 * s.omega - 0.26992 * s.omega * s.omega;
-      const alpha = (1 + kappa * (1 - Math.sqrt(T / s.Tc))) ** 2;
-      return ((PR_OMEGA_A * R_MOLAR * R_MOLAR * s.Tc * s.Tc) / s.Pc) * alpha;
+  const kappa = (s: (typeof sp)[number]) => 0.37464 + 1.54226 * s.omega - 0.26992 * s.omega * s.omega;
+  /**
+   * The mixing rule a = sum x_i x_j (1 - k_ij) a_ij, a_ij = sqrt(a_i a_j) as printed, or
+   * q_i q_j with q_i = sqrt(ac_i) [1 + kappa_i (1 - sqrt(T/Tc_i))] keeping its sign.
+   */
+  const direct = (T: number, signed: boolean) => {
+    const q = sp.map((s) => {
+      const qi =
+        Math.sqrt((PR_OMEGA_A * R_MOLAR * R_MOLAR * s.Tc * s.Tc) / s.Pc) *
+        (1 + kappa(s) * (1 - Math.sqrt(T / s.Tc)));
+      return signed ? qi : Math.sqrt(qi * qi);
     });
     let a = 0;
     for (let i = 0; i < sp.length; i++) {
-      for (let j = 0; j < sp.length; j++) {
-        a += x[i]! * x[j]! * (1 - k(ids[i]!, ids[j]!)) * Math.sqrt(ai[i]! * ai[j]!);
-      }
+      for (let j = 0; j < sp.length; j++) a += x[i]! * x[j]! * (1 - k(ids[i]!, ids[j]!)) * q[i]! * q[j]!;
     }
     return a;
   };
   const out = new Float64Array(3);
 
-  it('the quadratic holds up to where the first alpha_i passes through zero (N2: Tc (1 + 1/kappa)^2, about 1390 K)', () => {
+  it('equals the printed rule with sqrt(a_i a_j) (Peng and Robinson 1976, eqs. 9-18) up to where the N2 alpha reaches zero, Tc (1 + 1/kappa)^2 = 1390 K', () => {
     const n2 = SPECIES.N2;
-    const kappa = 0.37464 + 1.54226 * n2.omega - 0.26992 * n2.omega * n2.omega;
-    expect(pr.quadraticUpTo).toBeCloseTo(n2.Tc * (1 + 1 / kappa) ** 2, 9);
+    expect(n2.Tc * (1 + 1 / kappa(n2)) ** 2).toBeCloseTo(1389.6, 0);
     for (const T of [200, 288.15, 450, 1000, 1380]) {
-      expect(rel(pr.A0 - 2 * pr.A1 * Math.sqrt(T) + pr.A2 * T, direct(T))).toBeLessThan(1e-12);
+      pr.attraction(T, out);
+      expect(rel(out[0]!, direct(T, false))).toBeLessThan(1e-12);
     }
   });
 
-  it('a(T) equals the double sum on both sides of that temperature, and its derivatives match finite differences', () => {
+  it('equals the signed continuation at all T, and its derivatives match finite differences', () => {
     for (const T of [200, 450, 1000, 1380, 1395, 2000, 3000, 5000]) {
       pr.attraction(T, out);
       const [a, da, d2a] = out;
-      expect(rel(a!, direct(T))).toBeLessThan(1e-12);
+      expect(rel(a!, direct(T, true))).toBeLessThan(1e-12);
       const d = 1e-3 * T;
-      const dFd = (direct(T + d) - direct(T - d)) / (2 * d);
-      const d2Fd = (direct(T + d) - 2 * direct(T) + direct(T - d)) / (d * d);
+      const dFd = (direct(T + d, true) - direct(T - d, true)) / (2 * d);
+      const d2Fd = (direct(T + d, true) - 2 * direct(T, true) + direct(T - d, true)) / (d * d);
       expect(rel(da!, dFd)).toBeLessThan(1e-5);
       expect(rel(d2a!, d2Fd)).toBeLessThan(1e-3);
     }
+  });
+
+  it('so h and s stay continuous there: round trips of a hydrogen-rich gas at 30 MPa across 1389.6 K (common practice, no source)', () => {
+    const gas = pengRobinsonMixture({ H2: 0.7, CO: 0.2, CO2: 0.05, N2: 0.05 });
+    roundTrips(gas, [1385, 1389, 1389.6, 1389.7, 1390, 1395], [1e6, 30e6]);
   });
 });
