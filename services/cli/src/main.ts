@@ -9,6 +9,8 @@ Commands:
   migrate          apply pending database migrations and print the level reached
   plant load FILE  validate a plant file (YAML or JSON) and load it into the database
   plant check FILE validate a plant file only
+  backfill --from DATE --to DATE [--machine ID]
+                   recompute results over a date range, with a progress bar
   calc [FILE]      compute one machine case from a JSON file or stdin (--json for JSON output)
 
 Environment: DATABASE_URL (unset: embedded PostgreSQL under ISENTROPE_DATA_DIR), HOST, PORT,
@@ -47,6 +49,11 @@ async function main(argv: readonly string[]): Promise<number> {
       case 'migrate': {
         const { migrateCommand } = await import('./commands/migrate.js');
         await migrateCommand(config, logger);
+        return 0;
+      }
+      case 'backfill': {
+        const { backfillCommand } = await import('./commands/backfill.js');
+        await backfillCommand(config, logger, rest);
         return 0;
       }
       case 'plant': {

@@ -1,6 +1,7 @@
 import { readFile } from 'node:fs/promises';
 import { buildApp } from '@isentrope/api';
 import { prepareDemo, startDemoFeed } from '@isentrope/demo';
+import { startJobs } from '@isentrope/jobs';
 import { migrate, openDatabase } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
@@ -67,6 +68,11 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
       { opcua: demo.opcuaEndpoint, drop: demo.dropFolder, plantFile: `${config.dataDir}/demo/plant.yaml` },
       'demo plant live: OPC UA simulator and CSV drops running',
     );
+  }
+
+  if (config.runJobs) {
+    const jobs = await startJobs({ pool: db.pool, databaseUrl: db.url, logger, config: {} });
+    lifecycle.add('jobs', () => jobs.stop());
   }
 
   const app = await buildApp({
