@@ -1,5 +1,5 @@
-import { BadInputError } from '../errors.js';
-import type { FluidState } from '../fluid.js';
+import { BadInputError, OutOfRangeError } from '../errors.js';
+import type { Fluid, FluidState } from '../fluid.js';
 import { INSTRUMENT_FAULT_FLAGS, type MachineFlag, type MachineInput } from './types.js';
 
 /** Default wet margin [K]: common practice, no source. */
@@ -86,4 +86,19 @@ export function isValid(flags: readonly MachineFlag[]): boolean {
   return !flags.some(
     (f) => INSTRUMENT_FAULT_FLAGS.has(f) || f === 'outlet-undetermined' || f === 'inlet-undetermined',
   );
+}
+
+/**
+ * Saturation temperature [K] at p [Pa], or undefined when the fluid has no two-phase region or p
+ * lies outside the saturation line (above the critical pressure: a supercritical state is single
+ * phase, so p and T fix it).
+ */
+export function saturationAt(fluid: Fluid, p: number): number | undefined {
+  if (fluid.saturationTemperature === undefined) return undefined;
+  try {
+    return fluid.saturationTemperature(p);
+  } catch (error) {
+    if (error instanceof OutOfRangeError) return undefined;
+    throw error;
+  }
 }

@@ -6,6 +6,7 @@ import {
   LOW_HEAD_RATIO,
   resolveMassFlow,
   resolveShaftPower,
+  saturationAt,
   secondLawFlags,
 } from './common.js';
 import type { MachineFlag, MachineInput, MachineResult } from './types.js';
@@ -27,7 +28,7 @@ export function evaluatePump(input: MachineInput): MachineResult {
     throw new BadInputError('outlet.p', `pump outlet pressure ${o.p} Pa is below inlet pressure ${i.p} Pa`);
   }
   const flags: MachineFlag[] = [];
-  const tSatIn = fluid.saturationTemperature?.(i.p);
+  const tSatIn = saturationAt(fluid, i.p);
   if (tSatIn !== undefined && i.T >= tSatIn) {
     // At or above saturation p and T give steam (or nothing definite): a pump inlet reading
     // there is a transmitter fault or a flashing suction, never a state to compute with.

@@ -71,6 +71,18 @@ describe('steam turbine on IAPWS-IF97', () => {
     expect(r.valid).toBe(false);
   });
 
+  it('a supercritical inlet (above 22.064 MPa) is single phase: no saturation check', () => {
+    const r = evaluateMachine({
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 25e6, T: 600 + C },
+      outlet: { p: 5e6, T: 370 + C },
+    });
+    expect(r.flags).toEqual([]);
+    expect(r.isentropicEfficiency!).toBeGreaterThan(0.5);
+    expect(r.isentropicEfficiency!).toBeLessThan(1);
+  });
+
   it('a turbine inlet below saturation is undetermined', () => {
     const r = evaluateMachine({
       kind: 'turbine',

@@ -7,6 +7,7 @@ import {
   isValid,
   resolveMassFlow,
   resolveShaftPower,
+  saturationAt,
   secondLawFlags,
 } from './common.js';
 import type { MachineFlag, MachineInput, MachineResult } from './types.js';
@@ -35,7 +36,7 @@ export function evaluateTurbine(input: MachineInput): MachineResult {
   const shaftPower = resolveShaftPower(input);
   if (massFlow === 0) flags.push('no-flow');
 
-  const tSatIn = fluid.saturationTemperature?.(i.p);
+  const tSatIn = saturationAt(fluid, i.p);
   if (tSatIn !== undefined && i.T <= tSatIn) {
     // A turbine inlet at or below saturation: p and T do not fix a wet inlet.
     flags.push('inlet-undetermined');
@@ -53,7 +54,7 @@ export function evaluateTurbine(input: MachineInput): MachineResult {
   }
 
   let outlet: FluidState;
-  const tSatOut = fluid.saturationTemperature?.(o.p);
+  const tSatOut = saturationAt(fluid, o.p);
   if (tSatOut !== undefined && o.T <= tSatOut + wetMargin) {
     if (shaftPower !== undefined && massFlow !== undefined && massFlow > 0) {
       flags.push('wet-outlet-energy-balance');

@@ -96,14 +96,28 @@ class MemoFluid implements Fluid {
   readonly name: string;
   readonly kind: Fluid['kind'];
   readonly saturationTemperature?: ((p: number) => number) | undefined;
-  private readonly keys = new Float64Array(MEMO_SIZE * 3);
+  private readonly keys: number[] = [];
   private readonly values: FluidState[] = [];
+  private readonly satP: number[] = [];
+  private readonly satT: number[] = [];
 
   constructor(private readonly inner: Fluid) {
     this.name = inner.name;
     this.kind = inner.kind;
     const tsat = inner.saturationTemperature;
-    if (tsat !== undefined) this.saturationTemperature = (p: number): number => tsat.call(inner, p);
+    if (tsat !== undefined) {
+      // Two pressures (inlet and outlet) repeat through every perturbation: remember a few.
+      this.saturationTemperature = (p: number): number => {
+        const i = this.satP.indexOf(p);
+        if (i >= 0) return this.satT[i]!;
+        const T = tsat.call(inner, p);
+        if (this.satP.length < MEMO_SIZE) {
+          this.satP.push(p);
+          this.satT.push(T);
+        }
+        return T;
+      };
+    }
   }
 
   private find(method: number, a: number, b: number): FluidState | undefined {
@@ -118,10 +132,7 @@ class MemoFluid implements Fluid {
   private store(method: number, a: number, b: number, value: FluidState): FluidState {
     const i = this.values.length;
     if (i === MEMO_SIZE) return value; // full: compute without remembering
-    const j = i * 3;
-    this.keys[j] = method;
-    this.keys[j + 1] = a;
-    this.keys[j + 2] = b;
+    this.keys.push(method, a, b);
     this.values.push(value);
     return value;
   }
