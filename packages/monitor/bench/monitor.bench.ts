@@ -2,11 +2,14 @@
  * Monitoring benchmarks (run with `npx tsx packages/monitor/bench/monitor.bench.ts`):
  * - align + validate + steady state on one year of 1-minute data for one machine with 6 tags
  *   (samples every 60 s with +-5 s jitter, invented values), in grid points per second;
- * - Theil-Sen slope with Sen's interval on 365 daily points, in evaluations per second.
+ * - Theil-Sen slope with Sen's interval on 365 daily points, in evaluations per second;
+ * - gauge/absolute step detector on one year of 1-minute readings of one pressure tag (17 bar(a),
+ *   invented, with a +1 atmosphere step at 80 %), in points per second.
  * Rates are per CPU-second of this process (the machine is shared). One JSON line per figure.
  */
 import { alignTags, type TagColumns } from '../src/align.js';
 import { theilSen } from '../src/degradation.js';
+import { detectGaugeAbsoluteStep } from '../src/instrument/index.js';
 import { detectSteadyState } from '../src/steady-state.js';
 import { seededNormal, seededRandom } from '../src/synthetic.js';
 import { validateAligned } from '../src/validate.js';
@@ -91,4 +94,19 @@ while (cpuSince(c2) < 1) {
   evals++;
 }
 emit('monitor.theil_sen.365_daily', evals / cpuSince(c2), 'evals/s (CPU)');
+
+{
+  const t = new Float64Array(points);
+  const value = new Float64Array(points);
+  for (let i = 0; i < points; i++) {
+    t[i] = start + i * MIN;
+    value[i] = 17e5 + 2000 * z() + (i >= 0.8 * points ? 101_325 : 0);
+  }
+  const input = { t, value, ambientPressure: 101_325 };
+  sink += detectGaugeAbsoluteStep(input).length; // warm-up
+  const runsStep = 3;
+  const c3 = process.cpuUsage();
+  for (let r = 0; r < runsStep; r++) sink += detectGaugeAbsoluteStep(input).length;
+  emit('monitor.gauge_absolute_step.year_1min', (points * runsStep) / cpuSince(c3), 'points/s (CPU)');
+}
 if (!Number.isFinite(sink)) process.exitCode = 1;
