@@ -305,8 +305,10 @@ class GasMixture implements GasModel {
   }
 
   /**
-   * T from p and h (isH) or s: Newton on T with the analytic slopes (dh/dT)_p = cp and
-   * (ds/dT)_p = cp/T, cp including the departure. Every evaluation also narrows a bracket
+   * T from p and h (isH) or s: Newton with the analytic slopes (dh/dT)_p = cp and
+   * (ds/d ln T)_p = cp, cp including the departure; for s the step is taken in ln T, where s is
+   * nearly linear (exactly so for constant cp), which saves about one evaluation of the
+   * departures per call at pipeline pressures (3 instead of 4). Every evaluation also narrows a bracket
    * [lo, hi] (h and s rise with T along an isobar); if Newton leaves it, or has not converged
    * after NEWTON_ITERATIONS, the solver bisects it, so a step in h or s (the NASA ranges meet at
    * 1000 K with a small jump; the vapour-like Peng-Robinson root can vanish) cannot trap it. An end
@@ -352,7 +354,8 @@ class GasMixture implements GasModel {
         lo = T;
         loKnown = true;
       }
-      const step = isH ? residual / w[CP]! : (residual * T) / w[CP]!;
+      // For s: ln(T_next) = ln T - residual/cp, written as a step in T.
+      const step = isH ? residual / w[CP]! : T * -Math.expm1(-residual / w[CP]!);
       // Converged, unless the last step crosses the 1000 K seam of the NASA fits: h and s step
       // slightly there, so the linear step is not valid across it; one more evaluation settles it.
       const sameSide = T < T_MID === T - step < T_MID;
@@ -372,8 +375,9 @@ class GasMixture implements GasModel {
   }
 
   /**
-   * The converged state: T - step, with h and s moved along the isobar by the same linear step
-   * (the one that is being solved for lands on the target exactly) and v by (dv/dT)_p. A step
+   * The converged state: T - step, with the quantity solved for set to its target (the last
+   * Newton step lands on it), the other one moved along the isobar by the linear step (dh = cp dT,
+   * ds = cp/T dT) and v by (dv/dT)_p; the error of that is of order step^2. A step
    * that would end beyond Tmin or Tmax means the solution lies at that end within the tolerance,
    * or beyond it: the end is evaluated, and its state returned only if it still brackets the target.
    */
