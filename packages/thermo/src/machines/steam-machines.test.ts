@@ -71,6 +71,27 @@ describe('steam turbine on IAPWS-IF97', () => {
     expect(r.valid).toBe(false);
   });
 
+  it('GUM near the wet margin: perturbed points keep the energy-balance method (no jump)', () => {
+    const p2 = 10e3;
+    const input: MachineInput = {
+      kind: 'turbine',
+      fluid: water,
+      inlet: { p: 3e6, T: 400 + C },
+      outlet: { p: p2, T: saturationTemperature(p2) + 1.5 }, // inside the 2 K margin; +1 K would leave it
+      massFlow: 10,
+      shaftPower: 8e6,
+    };
+    const r = evaluateMachineWithUncertainty(input, {
+      'outlet.T': { kind: 'absolute', value: 1 },
+      shaftPower: { kind: 'reading', percent: 0.5 },
+      massFlow: { kind: 'reading', percent: 1 },
+    });
+    expect(r.result.flags).toContain('wet-outlet-energy-balance');
+    // Only power and flow matter on this branch: u(w)/w = sqrt(0.5^2 + 1^2) % (GUM 5.1.6).
+    expect(r.uncertainty.specificWork! / r.result.specificWork!).toBeCloseTo(Math.hypot(0.005, 0.01), 4);
+    expect(r.uncertainty.isentropicEfficiency!).toBeLessThan(0.02);
+  });
+
   it('a supercritical inlet (above 22.064 MPa) is single phase: no saturation check', () => {
     const r = evaluateMachine({
       kind: 'turbine',

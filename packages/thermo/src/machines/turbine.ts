@@ -15,8 +15,9 @@ import type { MachineFlag, MachineInput, MachineResult } from './types.js';
 /**
  * Turbine or expander (steam or gas). Isentropic efficiency eta_s = (h_in - h_out)/(h_in - h_out,s)
  * with h_out,s = h(p_out, s_in). A steam outlet at or near saturation is not fixed by p and T:
- * h_out then comes from the energy balance h_out = h_in - P_shaft / m (adiabatic casing, mechanical
- * losses inside the shaft power), or the outlet is reported undetermined. Never a guess.
+ * h_out then comes from the energy balance h_out = h_in - P_shaft / m (adiabatic casing; bearing
+ * and gland losses neglected, which makes the efficiency slightly low), or the outlet is reported
+ * undetermined. Never a guess.
  */
 export function evaluateTurbine(input: MachineInput): MachineResult {
   checkInput(input);
@@ -55,7 +56,11 @@ export function evaluateTurbine(input: MachineInput): MachineResult {
 
   let outlet: FluidState;
   const tSatOut = saturationAt(fluid, o.p);
-  if (tSatOut !== undefined && o.T <= tSatOut + wetMargin) {
+  const possiblyWet =
+    input.outletFrom === undefined
+      ? tSatOut !== undefined && o.T <= tSatOut + wetMargin
+      : input.outletFrom === 'energy-balance';
+  if (possiblyWet) {
     if (shaftPower !== undefined && massFlow !== undefined && massFlow > 0) {
       flags.push('wet-outlet-energy-balance');
       outlet = fluid.statePH(o.p, inlet.h - shaftPower / massFlow);

@@ -33,6 +33,12 @@ export interface MachineInput {
    * uncertainty is known (default 0.01 J/(kg K), the order of IF97 forward/backward consistency).
    */
   readonly entropyTolerance?: number | undefined;
+  /**
+   * Turbines with a saturation line: where the outlet enthalpy comes from, instead of deciding by
+   * wetMargin. Set by the uncertainty propagation so perturbed points stay on the base point's
+   * branch (a reading 1 K across the margin must not jump between methods); rarely needed otherwise.
+   */
+  readonly outletFrom?: 'temperature' | 'energy-balance' | undefined;
 }
 
 /**

@@ -228,7 +228,13 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
     }
     const r = evaluateMachine(work);
     // The first call is at the input estimates: keep its full result.
-    first ??= r;
+    if (first === undefined) {
+      first = r;
+      if (r.kind === 'turbine') {
+        // Keep every perturbed point on the base point's outlet method (see MachineInput.outletFrom).
+        work.outletFrom = r.flags.includes('wet-outlet-energy-balance') ? 'energy-balance' : 'temperature';
+      }
+    }
     // Spelled out, in UNCERTAIN_OUTPUTS order: named loads are much faster than keyed ones here.
     out[0] = r.isentropicEfficiency ?? Number.NaN;
     out[1] = r.specificWork ?? Number.NaN;
