@@ -16,13 +16,15 @@ CREATE TABLE samples (
   tag_id integer NOT NULL,
   time timestamptz NOT NULL,
   value double precision NOT NULL,
-  -- Quality code as received: 0 = good; other codes are defined by services/ingest.
-  quality smallint NOT NULL DEFAULT 0,
+  -- Quality code as received, OPC DA style (bits 7-6: 11 good, 01 uncertain, 00 bad):
+  -- 192 = good, 64 = uncertain, 0 = bad, as services/ingest stores them; substatus and
+  -- limit bits are kept. See packages/store/src/quality.ts.
+  quality smallint NOT NULL DEFAULT 192,
   PRIMARY KEY (tag_id, time)
 ) PARTITION BY RANGE (time);
 
--- Rollups kept by the sample writer after each batch (recomputed over the touched
--- buckets, never by a per-row trigger). sum and count give the mean; min and max keep
+-- Rollups kept by the sample writer in each batch's transaction (the batch's new rows
+-- merged into their buckets, never by a per-row trigger; rebuildRollups recomputes a range). sum and count give the mean; min and max keep
 -- spikes visible in any downsampled trend; last_value/last_time the value at bucket end.
 CREATE TABLE samples_1m (
   tag_id integer NOT NULL,

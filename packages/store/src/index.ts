@@ -8,6 +8,7 @@ export * from './ingest-records.js';
 export * from './migrate.js';
 export * from './partitions.js';
 export * from './plant-config.js';
+export * from './quality.js';
 export * from './results.js';
 export * from './retention.js';
 export * from './rollups.js';

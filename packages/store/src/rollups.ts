@@ -1,10 +1,18 @@
 /**
- * 1-minute and 1-hour rollups of samples, recomputed over the buckets a batch touched
- * (called by the sample writer inside the batch's transaction, under per-tag advisory
- * locks, so two writers on one tag cannot each miss the other's rows).
- * Recomputing rather than adding makes a re-sent batch change nothing.
+ * 1-minute and 1-hour rollups of samples.
+ *
+ * The sample writer keeps them incrementally: inside the batch's transaction, under
+ * per-tag advisory locks, the rows that were really new (all rows of a batch COPY'd
+ * straight into samples, or the RETURNING rows of the staging path's ON CONFLICT DO
+ * NOTHING) are aggregated per bucket and merged into the stored buckets: min of mins, max
+ * of maxes, sum of sums, count of counts, and the later of the two "last" points. Only new
+ * rows are ever added, so a re-sent batch changes nothing, and no batch re-reads samples.
+ * rebuildRollups recomputes a range from the raw samples, for repair.
  */
-import type { Queryable } from './errors.js';
+import type pg from 'pg';
+import { RollupEncoder, type RollupRow, type SampleRow } from './copy-binary.js';
+import { type Queryable, StoreError } from './errors.js';
+import { ensurePartitions } from './partitions.js';
 
 export const MINUTE_MS = 60_000;
 export const HOUR_MS = 3_600_000;
@@ -65,4 +73,213 @@ export async function refreshHourRollups(db: Queryable, touched: TouchedBuckets)
      ${UPSERT}`,
     [touched.tagIds, touched.starts],
   );
+}
+
+/**
+ * Per-bucket aggregates of a batch sorted by (tag, time), for both widths, straight into
+ * binary COPY data for rollup_stage (minute rows, then hour rows). Each bucket's rows are
+ * contiguous in that order, so one pass per width suffices and no bucket appears twice.
+ */
+export function encodeBatchRollups(rows: readonly SampleRow[]): Buffer {
+  const out = new RollupEncoder(2 * rows.length);
+  aggregateInto(rows, MINUTE_MS, false, out);
+  aggregateInto(rows, HOUR_MS, true, out);
+  return out.finish();
+}
+
+/** The same aggregates as rows (for tests and tools). */
+export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
+  const out: RollupRow[] = [];
+  const sink = {
+    addFields(
+      tagId: number,
+      bucket: number,
+      min: number,
+      max: number,
+      sum: number,
+      count: number,
+      lastValue: number,
+      lastTime: number,
+      hourly: boolean,
+    ): void {
+      out.push({ tagId, bucket, min, max, sum, count, lastValue, lastTime, hourly });
+    },
+  };
+  aggregateInto(rows, MINUTE_MS, false, sink);
+  aggregateInto(rows, HOUR_MS, true, sink);
+  return out;
+}
+
+function aggregateInto(
+  rows: readonly SampleRow[],
+  width: number,
+  hourly: boolean,
+  out: Pick<RollupEncoder, 'addFields'>,
+): void {
+  let tag = -1;
+  let bucket = Number.NaN;
+  let min = 0;
+  let max = 0;
+  let sum = 0;
+  let count = 0;
+  let lastValue = 0;
+  let lastTime = 0;
+  for (let i = 0; i < rows.length; i++) {
+    const r = rows[i]!;
+    const t = r.time;
+    const v = r.value;
+    const b = t - (((t % width) + width) % width);
+    if (r.tagId !== tag || b !== bucket) {
+      if (count > 0) out.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
+      tag = r.tagId;
+      bucket = b;
+      min = v;
+      max = v;
+      sum = 0;
+      count = 0;
+    }
+    if (v < min) min = v;
+    if (v > max) max = v;
+    sum += v;
+    count++;
+    lastValue = v;
+    lastTime = t;
+  }
+  if (count > 0) out.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
+}
+
+/** Temporary table of a session that receives a batch's rollup rows (binary COPY). */
+export const ROLLUP_STAGE_DDL = `CREATE TEMP TABLE IF NOT EXISTS rollup_stage
+  (tag_id integer, bucket timestamptz, min double precision, max double precision, sum double precision,
+   count integer, last_value double precision, last_time timestamptz, hourly boolean) ON COMMIT DELETE ROWS`;
+
+/**
+ * Merge of new rows' aggregates into a stored bucket. The new rows never share a time
+ * with stored ones (the key is (tag_id, time)), so "later last_time wins" is exact.
+ */
+function mergeClause(table: 'samples_1m' | 'samples_1h'): string {
+  return `ON CONFLICT (tag_id, bucket) DO UPDATE SET
+    min = least(${table}.min, excluded.min), max = greatest(${table}.max, excluded.max),
+    sum = ${table}.sum + excluded.sum, count = ${table}.count + excluded.count,
+    last_value = CASE WHEN excluded.last_time > ${table}.last_time THEN excluded.last_value ELSE ${table}.last_value END,
+    last_time = greatest(${table}.last_time, excluded.last_time)`;
+}
+
+const COLUMNS = 'tag_id, bucket, min, max, sum, count, last_value, last_time';
+
+/** Merges the rows of rollup_stage into samples_1m and samples_1h (one statement). */
+export const MERGE_ROLLUP_STAGE = `WITH m AS (
+    INSERT INTO samples_1m (${COLUMNS}) SELECT ${COLUMNS} FROM rollup_stage WHERE NOT hourly
+    ${mergeClause('samples_1m')})
+  INSERT INTO samples_1h (${COLUMNS}) SELECT ${COLUMNS} FROM rollup_stage WHERE hourly
+    ${mergeClause('samples_1h')}`;
+
+/**
+ * Staging path: inserts samples_stage into samples, skipping stored keys, and merges the
+ * rows really inserted into both rollups, in one statement. Buckets are cut by date_bin
+ * from 2000-01-01 UTC so the session's TimeZone cannot shift an hour bucket.
+ */
+export function insertStagedSql(rollups: boolean): string {
+  const insert = `INSERT INTO samples (tag_id, time, value, quality)
+      SELECT tag_id, time, value, quality FROM samples_stage ORDER BY tag_id, time
+      ON CONFLICT DO NOTHING RETURNING tag_id, time, value`;
+  if (!rollups) return `WITH ins AS (${insert}) SELECT count(*)::int AS n FROM ins`;
+  const agg = (
+    width: string,
+  ): string => `SELECT tag_id, date_bin(interval '${width}', time, timestamptz '2000-01-01 00:00+00'),
+         min(value), max(value), sum(value), count(*)::int, (array_agg(value ORDER BY time DESC))[1], max(time)
+      FROM ins GROUP BY 1, 2`;
+  return `WITH ins AS (${insert}),
+    m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
+    h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})
+    SELECT count(*)::int AS n FROM ins`;
+}
+
+export interface RebuildRollupsOptions {
+  /** Tags to rebuild; default every tag with samples or rollups in the range. */
+  readonly tagIds?: readonly number[];
+  /** Range [from, to); widened to whole hours. */
+  readonly from: Date | number;
+  readonly to: Date | number;
+}
+
+/** Advisory-lock class for per-tag write locks, shared with the sample writer. */
+export const TAG_LOCK_CLASS = 0x15e7;
+
+/**
+ * Recomputes samples_1m and samples_1h from raw samples over [from, to) widened to whole
+ * hours, for the given tags (repair after rows were written around the writer, or after
+ * raw retention is undone). Runs in one transaction under the writers' per-tag locks, so
+ * no batch interleaves; buckets left with no samples are deleted. Returns the rows written.
+ */
+export async function rebuildRollups(
+  pool: pg.Pool,
+  options: RebuildRollupsOptions,
+): Promise<{ tags: number; minuteRows: number; hourRows: number }> {
+  const ms = (t: Date | number): number => (typeof t === 'number' ? t : t.getTime());
+  const t0 = Math.floor(ms(options.from) / HOUR_MS) * HOUR_MS;
+  const t1 = Math.ceil(ms(options.to) / HOUR_MS) * HOUR_MS;
+  if (!Number.isFinite(t0) || !Number.isFinite(t1) || !(t1 > t0)) {
+    throw new StoreError('STORE_TIME_RANGE', `bad rollup rebuild range: ${t0} to ${t1} [ms]`, {
+      from: t0,
+      to: t1,
+    });
+  }
+  for (const id of options.tagIds ?? []) {
+    if (!Number.isInteger(id) || id <= 0 || id > 2 ** 31 - 1) {
+      throw new StoreError('STORE_BAD_REQUEST', `tag id ${id} is not a positive int4`, { tagId: id });
+    }
+  }
+  await ensurePartitions(pool, 'samples_1m', t0, t1 - 1);
+  await ensurePartitions(pool, 'samples_1h', t0, t1 - 1);
+  const from = new Date(t0).toISOString();
+  const to = new Date(t1).toISOString();
+  const client = await pool.connect();
+  try {
+    await client.query('BEGIN');
+    let tagIds = options.tagIds === undefined ? undefined : [...new Set(options.tagIds)];
+    if (tagIds === undefined) {
+      const found = await client.query<{ tag_id: number }>(
+        `SELECT DISTINCT tag_id FROM samples WHERE time >= $1 AND time < $2
+         UNION SELECT DISTINCT tag_id FROM samples_1h WHERE bucket >= $1 AND bucket < $2`,
+        [from, to],
+      );
+      tagIds = found.rows.map((r) => r.tag_id);
+    }
+    tagIds.sort((a, b) => a - b);
+    await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
+      TAG_LOCK_CLASS,
+      tagIds,
+    ]);
+    const range = [tagIds, from, to];
+    await client.query(
+      'DELETE FROM samples_1m WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3',
+      range,
+    );
+    await client.query(
+      'DELETE FROM samples_1h WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3',
+      range,
+    );
+    const m = await client.query(
+      `INSERT INTO samples_1m (${COLUMNS})
+       SELECT tag_id, date_bin(interval '1 minute', time, timestamptz '2000-01-01 00:00+00'), min(value), max(value), sum(value),
+              count(*)::int, (array_agg(value ORDER BY time DESC))[1], max(time)
+         FROM samples WHERE tag_id = ANY($1) AND time >= $2 AND time < $3 GROUP BY 1, 2`,
+      range,
+    );
+    const h = await client.query(
+      `INSERT INTO samples_1h (${COLUMNS})
+       SELECT tag_id, date_bin(interval '1 hour', bucket, timestamptz '2000-01-01 00:00+00'), min(min), max(max), sum(sum),
+              sum(count)::int, (array_agg(last_value ORDER BY last_time DESC))[1], max(last_time)
+         FROM samples_1m WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3 GROUP BY 1, 2`,
+      range,
+    );
+    await client.query('COMMIT');
+    return { tags: tagIds.length, minuteRows: m.rowCount ?? 0, hourRows: h.rowCount ?? 0 };
+  } catch (error) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw error;
+  } finally {
+    client.release();
+  }
 }

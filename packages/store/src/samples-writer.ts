@@ -1,5 +1,5 @@
 /**
- * Batch writer for raw samples, built on COPY.
+ * Batch writer for raw samples, built on binary COPY.
  *
  * Each batch runs in one transaction: per-tag advisory locks (sorted, so no deadlock), a
  * cheap check against tag_last, then either COPY straight into `samples` (every key of the
@@ -7,24 +7,38 @@
  * and INSERT ... ON CONFLICT DO NOTHING. A re-sent batch therefore stores nothing twice;
  * should the fast path meet a key anyway (rows written around the writer), a savepoint
  * takes it back to the staging path. tag_last and the rollups are updated in the same
- * transaction.
+ * transaction, from the rows that were really new (see rollups.ts): no batch re-reads
+ * samples, so the cost of a batch does not grow with the table.
+ *
+ * The COPY data (and the batch's rollup rows) are encoded when a batch is queued, so the
+ * next batch is built while the database is still busy with the current one.
  */
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import { type CompressionMethod, type Compressor, createCompressor } from './compression.js';
+import { encodeSamples, type SampleRow } from './copy-binary.js';
 import { StoreError } from './errors.js';
 import { ensurePartitions, forgetPartitions } from './partitions.js';
-import { HOUR_MS, MINUTE_MS, refreshHourRollups, refreshMinuteRollups, touchedBuckets } from './rollups.js';
+import { QUALITY_GOOD, qualityClass } from './quality.js';
+import {
+  encodeBatchRollups,
+  insertStagedSql,
+  MERGE_ROLLUP_STAGE,
+  ROLLUP_STAGE_DDL,
+  TAG_LOCK_CLASS,
+} from './rollups.js';
+
+export type { SampleRow } from './copy-binary.js';
 
 export interface SampleInput {
   readonly tagId: number;
-  /** Date, or [ms since epoch]. */
+  /** Date, or [ms since epoch]; stored to the millisecond (a fraction is truncated). */
   readonly time: Date | number;
   /** As received, in the tag's unit. */
   readonly value: number;
-  /** Quality code as received (0 = good), a smallint. */
+  /** OPC DA quality code as received (QUALITY_GOOD = 192, see quality.ts), a smallint. */
   readonly quality: number;
 }
 
@@ -41,7 +55,11 @@ export interface SampleWriterOptions {
   readonly flushIntervalMs?: number;
   /** Batches waiting for the database before write() blocks (default 4). */
   readonly maxQueuedBatches?: number;
-  /** Per-tag compression on write. Held points are written on close(), not on flush(). */
+  /**
+   * Per-tag compression on write. Only good samples (quality class good, OPC DA bits 7-6 =
+   * 11) pass through the compressor; kept points are stored as QUALITY_GOOD. Held points
+   * are written on close(), not on flush().
+   */
   readonly compression?: ReadonlyMap<number, TagCompression>;
   /** Keep samples_1m / samples_1h up to date (default true). */
   readonly rollups?: boolean;
@@ -57,21 +75,34 @@ export interface SampleWriterStats {
   fastBatches: number;
   /** Batches that went through staging and ON CONFLICT DO NOTHING. */
   stagedBatches: number;
+  /** Wall time spent per phase of the batches [ms] (for benchmarks and metrics). */
+  phaseMs: BatchPhaseTimes;
 }
 
-interface Row {
-  tagId: number;
-  time: number;
-  value: number;
-  quality: number;
+/** Wall time per phase of writing batches [ms]. */
+export interface BatchPhaseTimes {
+  /** Sorting and encoding the COPY data and rollup rows (in the caller's turn). */
+  prepare: number;
+  /** Partition checks, connection, BEGIN, advisory locks and the tag_last check. */
+  begin: number;
+  /** COPY of the rows (fast path) or COPY to staging plus the insert (staging path, rollups included). */
+  copy: number;
+  /** Fast path: COPY of the rollup rows and their merge. */
+  rollups: number;
+  /** tag_last update and COMMIT. */
+  commit: number;
 }
 
-/** Advisory-lock class for per-tag write locks (an arbitrary constant of ours). */
-const TAG_LOCK_CLASS = 0x15e7;
+function zeroPhases(): BatchPhaseTimes {
+  return { prepare: 0, begin: 0, copy: 0, rollups: 0, commit: 0 };
+}
+
+type Row = SampleRow;
+
 const SMALLINT_MAX = 32767;
 
 function toRow(s: SampleInput, index: number): Row {
-  const time = typeof s.time === 'number' ? s.time : s.time.getTime();
+  const time = Math.trunc(typeof s.time === 'number' ? s.time : s.time.getTime());
   const bad = (reason: string): StoreError =>
     new StoreError('STORE_BAD_SAMPLE', `sample ${index} (tag ${s.tagId}): ${reason}`, {
       index,
@@ -90,9 +121,9 @@ function toRow(s: SampleInput, index: number): Row {
 }
 
 /** Sort by (tag, time) and drop repeated keys inside the batch (first one wins, as in the table). */
-function sortUnique(rows: Row[]): Row[] {
+function sortUnique<R extends Row>(rows: R[]): R[] {
   rows.sort((a, b) => a.tagId - b.tagId || a.time - b.time);
-  const out: Row[] = [];
+  const out: R[] = [];
   for (const r of rows) {
     const prev = out[out.length - 1];
     if (prev === undefined || prev.tagId !== r.tagId || prev.time !== r.time) out.push(r);
@@ -100,22 +131,68 @@ function sortUnique(rows: Row[]): Row[] {
   return out;
 }
 
-function* copyChunks(rows: readonly Row[]): Generator<string> {
-  let chunk = '';
-  for (const r of rows) {
-    // String(number) is the shortest text that round-trips a double exactly.
-    chunk += `${r.tagId}\t${new Date(r.time).toISOString()}\t${r.value}\t${r.quality}\n`;
-    if (chunk.length > 65_536) {
-      yield chunk;
-      chunk = '';
-    }
+function isSortedUnique(rows: readonly Row[]): boolean {
+  for (let i = 1; i < rows.length; i++) {
+    const a = rows[i - 1]!;
+    const b = rows[i]!;
+    if (a.tagId > b.tagId || (a.tagId === b.tagId && a.time >= b.time)) return false;
   }
-  if (chunk !== '') yield chunk;
+  return true;
 }
 
-async function copyInto(client: pg.PoolClient, table: string, rows: readonly Row[]): Promise<number> {
-  const stream = client.query(copyFrom(`COPY ${table} (tag_id, time, value, quality) FROM STDIN`));
-  await pipeline(Readable.from(copyChunks(rows)), stream);
+/** A batch ready for the database: sorted, unique, encoded. */
+interface PreparedBatch {
+  readonly rows: number;
+  readonly tMin: number;
+  readonly tMax: number;
+  readonly tagIds: number[];
+  /** First time per tag (ISO text, parallel to tagIds), for the tag_last check. */
+  readonly firstTimes: string[];
+  readonly lastTimes: string[];
+  readonly lastValues: number[];
+  /** Binary COPY data of the rows. */
+  readonly data: Buffer;
+  /** Binary COPY data of the batch's rollup rows, when rollups are kept. */
+  readonly rollups: Buffer | undefined;
+}
+
+function prepareBatch(sorted: readonly Row[], rollups: boolean): PreparedBatch {
+  let tMin = Number.POSITIVE_INFINITY;
+  let tMax = Number.NEGATIVE_INFINITY;
+  const tagIds: number[] = [];
+  const firstTimes: string[] = [];
+  const lastTimes: string[] = [];
+  const lastValues: number[] = [];
+  for (let i = 0; i < sorted.length; i++) {
+    const r = sorted[i]!;
+    if (r.time < tMin) tMin = r.time;
+    if (r.time > tMax) tMax = r.time;
+    if (i === 0 || sorted[i - 1]!.tagId !== r.tagId) {
+      tagIds.push(r.tagId);
+      firstTimes.push(new Date(r.time).toISOString());
+    }
+    const next = sorted[i + 1];
+    if (next === undefined || next.tagId !== r.tagId) {
+      lastTimes.push(new Date(r.time).toISOString());
+      lastValues.push(r.value);
+    }
+  }
+  return {
+    rows: sorted.length,
+    tMin,
+    tMax,
+    tagIds,
+    firstTimes,
+    lastTimes,
+    lastValues,
+    data: encodeSamples(sorted),
+    rollups: rollups && sorted.length > 0 ? encodeBatchRollups(sorted) : undefined,
+  };
+}
+
+async function copyBuffer(client: pg.PoolClient, sql: string, data: Buffer): Promise<number> {
+  const stream = client.query(copyFrom(sql));
+  await pipeline(Readable.from([data]), stream);
   return stream.rowCount ?? 0;
 }
 
@@ -125,81 +202,99 @@ function pgCode(error: unknown): string | undefined {
     : undefined;
 }
 
-/** Writes one sorted, de-duplicated batch; returns [rows stored, whether the fast path was used]. */
-export async function writeSampleBatch(
-  pool: pg.Pool,
-  rows: readonly Row[],
-  options: { rollups?: boolean } = {},
-): Promise<{ stored: number; fast: boolean }> {
-  if (rows.length === 0) return { stored: 0, fast: true };
-  let tMin = Number.POSITIVE_INFINITY;
-  let tMax = Number.NEGATIVE_INFINITY;
-  const firstByTag = new Map<number, number>();
-  const lastByTag = new Map<number, Row>();
-  for (const r of rows) {
-    if (r.time < tMin) tMin = r.time;
-    if (r.time > tMax) tMax = r.time;
-    if (!firstByTag.has(r.tagId)) firstByTag.set(r.tagId, r.time);
-    lastByTag.set(r.tagId, r);
-  }
-  const tagIds = [...firstByTag.keys()];
-  const rollups = options.rollups ?? true;
+const SAMPLES_STAGE_DDL = `CREATE TEMP TABLE IF NOT EXISTS samples_stage
+  (tag_id integer, time timestamptz, value double precision, quality smallint) ON COMMIT DELETE ROWS`;
 
+// Connections whose session already has the staging tables (created outside any
+// transaction, so a rolled-back batch cannot take them away behind this cache).
+const staged = new WeakSet<pg.PoolClient>();
+
+async function writePrepared(
+  pool: pg.Pool,
+  batch: PreparedBatch,
+  rollups: boolean,
+  phases: BatchPhaseTimes = zeroPhases(),
+): Promise<{ stored: number; fast: boolean }> {
+  if (batch.rows === 0) return { stored: 0, fast: true };
+  let mark = performance.now();
+  const lap = (phase: keyof BatchPhaseTimes): void => {
+    const now = performance.now();
+    phases[phase] += now - mark;
+    mark = now;
+  };
   for (let attempt = 1; ; attempt++) {
-    await ensurePartitions(pool, 'samples', tMin, tMax);
+    // Cached per pool: after the first batch of a month these make no query.
+    await ensurePartitions(pool, 'samples', batch.tMin, batch.tMax);
     if (rollups) {
-      await ensurePartitions(pool, 'samples_1m', tMin, tMax);
-      await ensurePartitions(pool, 'samples_1h', tMin, tMax);
+      await ensurePartitions(pool, 'samples_1m', batch.tMin, batch.tMax);
+      await ensurePartitions(pool, 'samples_1h', batch.tMin, batch.tMax);
     }
     const client = await pool.connect();
     try {
+      if (!staged.has(client)) {
+        await client.query(SAMPLES_STAGE_DDL);
+        await client.query(ROLLUP_STAGE_DDL);
+        staged.add(client);
+      }
       await client.query('BEGIN');
       await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
         TAG_LOCK_CLASS,
-        tagIds,
+        batch.tagIds,
       ]);
       const seen = await client.query<{ n: number }>(
         `SELECT count(*)::int AS n FROM unnest($1::int[], $2::timestamptz[]) AS b(tag_id, t)
            JOIN tag_last l USING (tag_id) WHERE l.time >= b.t`,
-        [tagIds, tagIds.map((id) => new Date(firstByTag.get(id)!).toISOString())],
+        [batch.tagIds, batch.firstTimes],
       );
       let fast = seen.rows[0]?.n === 0;
       let stored = 0;
+      lap('begin');
       if (fast) {
         await client.query('SAVEPOINT fast');
         try {
-          stored = await copyInto(client, 'samples', rows);
+          stored = await copyBuffer(
+            client,
+            'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
+            batch.data,
+          );
         } catch (error) {
           if (pgCode(error) !== '23505') throw error;
           await client.query('ROLLBACK TO SAVEPOINT fast');
           fast = false;
         }
+        lap('copy');
+        // Every row went in, so the batch's own aggregates are exactly what the rollups gain.
+        if (fast && rollups && batch.rollups !== undefined) {
+          await copyBuffer(
+            client,
+            'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)',
+            batch.rollups,
+          );
+          await client.query(MERGE_ROLLUP_STAGE);
+          lap('rollups');
+        }
       }
       if (!fast) {
-        await client.query(
-          `CREATE TEMP TABLE IF NOT EXISTS samples_stage
-             (tag_id integer, time timestamptz, value double precision, quality smallint) ON COMMIT DELETE ROWS`,
+        await copyBuffer(
+          client,
+          'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
+          batch.data,
         );
-        await copyInto(client, 'samples_stage', rows);
-        const ins = await client.query(
-          'INSERT INTO samples SELECT tag_id, time, value, quality FROM samples_stage ORDER BY tag_id, time ON CONFLICT DO NOTHING',
-        );
-        stored = ins.rowCount ?? 0;
+        const ins = await client.query<{ n: number }>(insertStagedSql(rollups));
+        stored = ins.rows[0]?.n ?? 0;
+        lap('copy');
       }
-      const last = [...lastByTag.values()];
-      await client.query(
-        `INSERT INTO tag_last (tag_id, time, value)
-         SELECT * FROM unnest($1::int[], $2::timestamptz[], $3::float8[])
-         ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time`,
-        [last.map((r) => r.tagId), last.map((r) => new Date(r.time).toISOString()), last.map((r) => r.value)],
-      );
-      if (rollups && stored > 0) {
-        const ids = rows.map((r) => r.tagId);
-        const times = rows.map((r) => r.time);
-        await refreshMinuteRollups(client, touchedBuckets(ids, times, MINUTE_MS));
-        await refreshHourRollups(client, touchedBuckets(ids, times, HOUR_MS));
+      // Nothing new means every key was stored already, and tag_last is at least as late.
+      if (stored > 0) {
+        await client.query(
+          `INSERT INTO tag_last (tag_id, time, value)
+           SELECT * FROM unnest($1::int[], $2::timestamptz[], $3::float8[])
+           ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time`,
+          [batch.tagIds, batch.lastTimes, batch.lastValues],
+        );
       }
       await client.query('COMMIT');
+      lap('commit');
       return { stored, fast };
     } catch (error) {
       await client.query('ROLLBACK').catch(() => {});
@@ -216,6 +311,21 @@ export async function writeSampleBatch(
 }
 
 /**
+ * Writes one batch in one transaction; returns [rows stored, whether the fast path was
+ * used]. Rows should come sorted by (tag, time) without repeated keys (a batch that is not
+ * is sorted and de-duplicated here, first row of a key winning); times in [ms since epoch].
+ */
+export async function writeSampleBatch(
+  pool: pg.Pool,
+  rows: readonly SampleRow[],
+  options: { rollups?: boolean } = {},
+): Promise<{ stored: number; fast: boolean }> {
+  const rollups = options.rollups ?? true;
+  const sorted = isSortedUnique(rows) ? rows : sortUnique([...rows]);
+  return writePrepared(pool, prepareBatch(sorted, rollups), rollups);
+}
+
+/**
  * Buffers samples and writes them in batches. write() resolves once the samples are
  * accepted into the bounded queue (it waits when the database is behind); flush()
  * resolves once everything written so far is committed; close() also ends compression.
@@ -227,6 +337,7 @@ export class SampleWriter {
     batches: 0,
     fastBatches: 0,
     stagedBatches: 0,
+    phaseMs: zeroPhases(),
   };
   private readonly batchSize: number;
   private readonly maxQueued: number;
@@ -234,7 +345,7 @@ export class SampleWriter {
   private readonly compressors = new Map<number, Compressor>();
   private readonly lastTime = new Map<number, number>();
   private pending: Row[] = [];
-  private readonly queue: Row[][] = [];
+  private readonly queue: PreparedBatch[] = [];
   private running = false;
   private failure: unknown;
   private closed = false;
@@ -292,7 +403,8 @@ export class SampleWriter {
     if (this.closed) return;
     if (this.timer !== undefined) clearInterval(this.timer);
     for (const [tagId, c] of this.compressors) {
-      for (const p of c.end()) this.pending.push({ tagId, time: p.time, value: p.value, quality: 0 });
+      for (const p of c.end())
+        this.pending.push({ tagId, time: p.time, value: p.value, quality: QUALITY_GOOD });
     }
     this.closed = true;
     await this.flush();
@@ -307,19 +419,20 @@ export class SampleWriter {
       return;
     }
     this.lastTime.set(row.tagId, row.time);
-    // Kept points are written as good (quality 0), so only good samples go through the compressor.
-    if (row.quality !== 0) {
+    // Kept points are written as QUALITY_GOOD, so only good samples go through the
+    // compressor; uncertain and bad ones are stored as received.
+    if (qualityClass(row.quality) !== 'good') {
       this.pending.push(row);
       return;
     }
     for (const p of c.push({ time: row.time, value: row.value })) {
-      this.pending.push({ tagId: row.tagId, time: p.time, value: p.value, quality: 0 });
+      this.pending.push({ tagId: row.tagId, time: p.time, value: p.value, quality: QUALITY_GOOD });
     }
   }
 
   private tick(): void {
     if (this.pending.length > 0 && this.queue.length < this.maxQueued) {
-      this.queue.push(sortUnique(this.pending.splice(0)));
+      this.queue.push(this.prepare(this.pending.splice(0)));
       this.start();
     }
   }
@@ -329,8 +442,15 @@ export class SampleWriter {
       if (this.failure !== undefined) throw this.wrapFailure();
       await this.changed();
     }
-    this.queue.push(sortUnique(batch));
+    this.queue.push(this.prepare(batch));
     this.start();
+  }
+
+  private prepare(rows: Row[]): PreparedBatch {
+    const t = performance.now();
+    const batch = prepareBatch(sortUnique(rows), this.rollups);
+    this.stats.phaseMs.prepare += performance.now() - t;
+    return batch;
   }
 
   private start(): void {
@@ -343,7 +463,7 @@ export class SampleWriter {
     try {
       while (this.queue.length > 0) {
         const batch = this.queue[0]!;
-        const { stored, fast } = await writeSampleBatch(this.pool, batch, { rollups: this.rollups });
+        const { stored, fast } = await writePrepared(this.pool, batch, this.rollups, this.stats.phaseMs);
         this.queue.shift();
         this.stats.batches++;
         this.stats.rowsStored += stored;

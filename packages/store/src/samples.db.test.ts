@@ -1,6 +1,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
 import { ensureCurrentPartitions, listPartitions } from './partitions.js';
+import { QUALITY_GOOD } from './quality.js';
 import { applyRetention } from './retention.js';
 import { type SampleInput, SampleWriter } from './samples-writer.js';
 import { readTrend } from './trends.js';
@@ -21,7 +22,7 @@ function samples(tagId: number, n: number, stepMs = 1000, start = T0): SampleInp
     tagId,
     time: start + i * stepMs,
     value: 100 + 10 * Math.sin(i / 50) + tagId,
-    quality: 0,
+    quality: QUALITY_GOOD,
   }));
 }
 
@@ -102,7 +103,7 @@ describe('SampleWriter', () => {
     let t = Date.UTC(2026, 1, 27, 22, 30, 0);
     for (let i = 0; i < 20_000; i++) {
       t += 700 + ((i * 7919) % 2200);
-      rows.push({ tagId: 20, time: t, value: Math.cos(i / 37) * 5 + (i % 13), quality: 0 });
+      rows.push({ tagId: 20, time: t, value: Math.cos(i / 37) * 5 + (i % 13), quality: QUALITY_GOOD });
     }
     for (let i = 0; i < rows.length; i += 3001) await w.write(rows.slice(i, i + 3001));
     await w.close();
@@ -130,7 +131,10 @@ describe('SampleWriter', () => {
 
   it('rejects a bad sample with its index and values, and stores nothing of that call', async () => {
     const w = new SampleWriter(db.pool, { flushIntervalMs: 0 });
-    const bad = [...samples(30, 3), { tagId: 30, time: T0 + 10_000, value: Number.NaN, quality: 0 }];
+    const bad = [
+      ...samples(30, 3),
+      { tagId: 30, time: T0 + 10_000, value: Number.NaN, quality: QUALITY_GOOD },
+    ];
     await expect(w.write(bad)).rejects.toMatchObject({ code: 'STORE_BAD_SAMPLE', details: { index: 3 } });
     await w.close();
     expect(await count('SELECT count(*)::int AS n FROM samples WHERE tag_id = 30')).toBe(0);
@@ -177,11 +181,31 @@ describe('trends', () => {
     const from = new Date(start);
     const to = new Date(start + 3 * 86_400_000);
     const sources = new Set<string>();
-    for (const buckets of [10, 200, 5000]) {
-      const trend = await readTrend(db.pool, { series: { kind: 'tag', tagId: 50 }, from, to, buckets });
+    // 25,920 rows: under the default raw budget, so 200 buckets read raw samples; a budget
+    // of 1,000 rows sends the same request to the 1-minute rollup.
+    for (const [buckets, rawRowLimit, source] of [
+      [10, undefined, 'rollup_1h'],
+      [200, undefined, 'raw'],
+      [200, 1000, 'rollup_1m'],
+      // 52 s buckets: finer than the 1-minute rollup, so raw whatever the budget.
+      [5000, 1000, 'raw'],
+    ] as const) {
+      const trend = await readTrend(db.pool, {
+        series: { kind: 'tag', tagId: 50 },
+        from,
+        to,
+        buckets,
+        ...(rawRowLimit === undefined ? {} : { rawRowLimit }),
+      });
       sources.add(trend.source);
+      expect(trend.source).toBe(source);
       expect(Math.max(...trend.buckets.map((b) => b.max))).toBe(1e4);
       expect(trend.buckets.reduce((a, b) => a + b.count, 0)).toBe(rows.length);
+      // "last" of every bucket is the value of its latest sample (found without a sort).
+      for (const b of trend.buckets) {
+        const i = (b.lastTime.getTime() - start) / 10_000;
+        expect(b.last).toBe(rows[i]!.value);
+      }
     }
     expect([...sources].sort()).toEqual(['raw', 'rollup_1h', 'rollup_1m']);
   });
@@ -190,7 +214,12 @@ describe('trends', () => {
     const start = Date.UTC(2026, 2, 10);
     const w = new SampleWriter(db.pool, { flushIntervalMs: 0 });
     await w.write(
-      [1, 5, 3, 9, 2, 4].map((v, i) => ({ tagId: 51, time: start + i * 10_000, value: v, quality: 0 })),
+      [1, 5, 3, 9, 2, 4].map((v, i) => ({
+        tagId: 51,
+        time: start + i * 10_000,
+        value: v,
+        quality: QUALITY_GOOD,
+      })),
     );
     await w.close();
     const trend = await readTrend(db.pool, {
@@ -228,9 +257,9 @@ describe('partitions and retention', () => {
   it('drops only partitions wholly older than the retention, keeping rollups longer', async () => {
     const w = new SampleWriter(db.pool, { flushIntervalMs: 0 });
     await w.write([
-      { tagId: 60, time: Date.UTC(2025, 0, 10), value: 1, quality: 0 },
-      { tagId: 60, time: Date.UTC(2025, 1, 27), value: 2, quality: 0 },
-      { tagId: 60, time: Date.UTC(2025, 2, 2), value: 3, quality: 0 },
+      { tagId: 60, time: Date.UTC(2025, 0, 10), value: 1, quality: QUALITY_GOOD },
+      { tagId: 60, time: Date.UTC(2025, 1, 27), value: 2, quality: QUALITY_GOOD },
+      { tagId: 60, time: Date.UTC(2025, 2, 2), value: 3, quality: QUALITY_GOOD },
     ]);
     await w.close();
     // now = 2025-04-01, 31 days: cutoff 2025-03-01; Jan and Feb end by then and go, March stays.
@@ -248,7 +277,7 @@ describe('partitions and retention', () => {
     expect(await count('SELECT count(*)::int AS n FROM samples_1m WHERE tag_id = 60')).toBe(3);
     // A dropped month is recreated on demand by the writer.
     const w2 = new SampleWriter(db.pool, { flushIntervalMs: 0 });
-    await w2.write([{ tagId: 60, time: Date.UTC(2025, 0, 11), value: 4, quality: 0 }]);
+    await w2.write([{ tagId: 60, time: Date.UTC(2025, 0, 11), value: 4, quality: QUALITY_GOOD }]);
     await w2.close();
     expect(await count('SELECT count(*)::int AS n FROM samples WHERE tag_id = 60')).toBe(2);
   });
