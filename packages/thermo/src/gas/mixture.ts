@@ -291,9 +291,9 @@ class GasMixture implements GasModel {
     for (let it = 0; it < 6; it++) {
       T = this.intoRange(T);
       this.props(P0, T, lnP, false);
-      const step = isH ? (w[H]! - target) / w[CP]! : ((w[S]! - target) * T) / w[CP]!;
+      const step = isH ? (w[H]! - target) / w[CP]! : T * -Math.expm1((target - w[S]!) / w[CP]!);
       T -= step;
-      if (Math.abs(step) < 1e-3) break; // 1 mK is plenty for a starting point
+      if (Math.abs(step) < 1e-2) break; // 10 mK is plenty for a starting point
     }
     return this.intoRange(T);
   }
