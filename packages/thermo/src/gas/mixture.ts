@@ -59,7 +59,7 @@ const T_LOW = 200;
 const P_MAX = 100e6;
 
 /**
- * Newton on T stops when the next step is below this fraction of T (3e-5 K at 300 K). The step is
+ * Newton stops when its next step in T is below this fraction of T (3e-5 K at 300 K). The step is
  * then taken by linear extrapolation: Newton's error after it is about |f''/(2 f')| step^2, with
  * f''/f' of order 1/T for h and s along an isobar, so about 1e-12 K, far below the 1e-7 K that
  * round trips must meet.
