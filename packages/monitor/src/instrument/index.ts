@@ -15,3 +15,10 @@ export {
   type GaugeAbsoluteInput,
   type GaugeAbsoluteOptions,
 } from './gauge-absolute.js';
+export {
+  type PressureRatioConsistency,
+  type PressureRatioHypothesis,
+  type PressureRatioInput,
+  type PressureRatioOptions,
+  pressureRatioConsistency,
+} from './pressure-ratio.js';
