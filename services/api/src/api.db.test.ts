@@ -139,6 +139,68 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
     expect(again.body).toBe('');
   });
 
+  it("trend over a long range: hourly aggregates merge to the live query's figures", async () => {
+    // 40 days of 10-minute results with varying efficiency and load (invented), queried both ways.
+    const m = (
+      await db.pool.query<{ id: number }>(
+        `INSERT INTO machines (site_id, slug, name, kind, fluid, spec) VALUES ($1, 'ac9', 'AC9 (invented)', 'compressor', '"air"', '{}') RETURNING id`,
+        [plant.siteId],
+      )
+    ).rows[0]!.id;
+    await setBaseline(db.pool, m, [0.7, 0.1, 0.05], 0.4, 1);
+    const start = Date.UTC(2025, 10, 20);
+    await insertResults(
+      db.pool,
+      m,
+      Array.from({ length: 40 * 144 }, (_, i) => ({
+        t: start + i * 600_000,
+        efficiency: 0.8 + 0.01 * Math.sin(i / 17),
+        operatingPoint: 0.6 + 0.3 * Math.cos(i / 29),
+        power: 1e6 + 1e4 * (i % 7),
+        valid: i % 13 !== 0,
+      })),
+    );
+    const from = new Date(start).toISOString();
+    const to = new Date(start + 40 * 86_400_000).toISOString();
+    const long = await app.inject({
+      method: 'GET',
+      url: `/api/machines/${m}/trend?from=${from}&to=${to}&buckets=80`,
+      headers: auth('viewer'),
+    });
+    const body = long.json<{
+      bucketMs: number;
+      buckets: {
+        t: number;
+        n: number;
+        efficiencyMean: number;
+        driftPts: number;
+        powerMax: number;
+        uEfficiency: number;
+      }[];
+    }>();
+    expect(body.bucketMs).toBe(12 * HOUR);
+    const { resultTrend } = await import('./queries/results.js');
+    const { activeBaseline } = await import('./queries/baselines.js');
+    const live = await resultTrend(
+      db.pool,
+      m,
+      start,
+      start + 40 * 86_400_000,
+      80,
+      await activeBaseline(db.pool, m),
+    );
+    expect(body.buckets.length).toBe(live.buckets.length);
+    body.buckets.forEach((b, i) => {
+      const l = live.buckets[i]!;
+      expect(b.t).toBe(l.t);
+      expect(b.n).toBe(l.n);
+      expect(b.efficiencyMean).toBeCloseTo(l.efficiencyMean!, 12);
+      expect(b.driftPts).toBeCloseTo(l.driftPts!, 10);
+      expect(b.powerMax).toBe(l.powerMax);
+      expect(b.uEfficiency).toBeCloseTo(l.uEfficiency!, 12);
+    });
+  });
+
   it('results: keyset pagination with a next link that walks all rows once', async () => {
     const seen = new Set<string>();
     let url: string | null =

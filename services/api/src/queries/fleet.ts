@@ -1,4 +1,5 @@
 import type pg from 'pg';
+import { withoutJit } from './nojit.js';
 
 /** Window of the "current" figures, ending at the machine's newest result [ms]: one hour (common practice, no source). */
 export const CURRENT_WINDOW_MS = 3_600_000;
@@ -37,8 +38,9 @@ export interface FleetRow {
  * data health over the last day, open alerts and bands. One statement, one round trip.
  */
 export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[]> {
-  const { rows } = await pool.query<FleetRow>(
-    `SELECT m.id, s.slug AS site_slug, m.slug, m.name, m.kind, m.out_of_service, m.retired_at,
+  const { rows } = await withoutJit(pool, (client) =>
+    client.query<FleetRow>(
+      `SELECT m.id, s.slug AS site_slug, m.slug, m.name, m.kind, m.out_of_service, m.retired_at,
             lr.time AS last_time, lv.time AS last_valid_time,
             cur.eff, cur.u_eff, coalesce(cur.n, 0) AS n_current, cur.x, cur.power, cur.baseline, cur.drift,
             coalesce(h.n, 0) AS n_health, coalesce(h.n_valid, 0) AS n_health_valid, lr.flags AS last_flags,
@@ -73,7 +75,8 @@ export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[
            FROM results r WHERE r.machine_id = m.id AND r.time > to_timestamp($2::float8 / 1000) - make_interval(secs => $3::float8 / 1000)
        ) h ON true
       ORDER BY s.slug, m.slug`,
-    [CURRENT_WINDOW_MS, nowMs, HEALTH_WINDOW_MS],
+      [CURRENT_WINDOW_MS, nowMs, HEALTH_WINDOW_MS],
+    ),
   );
   return rows;
 }

@@ -8,6 +8,7 @@ import type pg from 'pg';
 import { type MonthlyReportInput, monthRange, previousMonth } from '../report.js';
 import { activeBaseline, baselineAt } from './baselines.js';
 import { getBands, listMachines } from './machines.js';
+import { withoutJit } from './nojit.js';
 import { dailyDrift } from './results.js';
 
 export interface GatherMonthlyOptions {
@@ -96,7 +97,7 @@ export async function gatherMonthlyInput(
     const days =
       baseline === undefined
         ? []
-        : await dailyDrift(pool, m.id, toMs - windowDays * 86_400_000, toMs, baseline);
+        : await withoutJit(pool, (c) => dailyDrift(c, m.id, toMs - windowDays * 86_400_000, toMs, baseline));
     const prevEff = mean(previous.efficiency);
     const prevDrift = mean(
       previous.efficiency.map((e, i) => 100 * (e - (previous.baseline[i] ?? Number.NaN))),

@@ -1,5 +1,6 @@
 import type pg from 'pg';
 import { type BaselineRow, sqlCoefficients } from './baselines.js';
+import { withoutJit } from './nojit.js';
 
 export interface ResultRow {
   machine_id: number;
@@ -107,24 +108,25 @@ export async function resultTrend(
   const widthMs = Math.max(1000, Math.ceil((toMs - fromMs) / buckets));
   const c = sqlCoefficients(baseline);
   const base = `($6::float8 + $7::float8 * operating_point + $8::float8 * operating_point ^ 2 + $9::float8 * operating_point ^ 3)`;
-  const { rows } = await pool.query<{
-    b: number;
-    n: number;
-    n_valid: number;
-    eff: number | null;
-    eff_min: number | null;
-    eff_max: number | null;
-    u_eff: number | null;
-    baseline: number | null;
-    drift: number | null;
-    w: number | null;
-    p: number | null;
-    p_min: number | null;
-    p_max: number | null;
-    x: number | null;
-    sgen: number | null;
-  }>(
-    `SELECT floor((extract(epoch FROM time) * 1000 - $2::float8) / $4::float8)::int AS b,
+  const { rows } = await withoutJit(pool, (client) =>
+    client.query<{
+      b: number;
+      n: number;
+      n_valid: number;
+      eff: number | null;
+      eff_min: number | null;
+      eff_max: number | null;
+      u_eff: number | null;
+      baseline: number | null;
+      drift: number | null;
+      w: number | null;
+      p: number | null;
+      p_min: number | null;
+      p_max: number | null;
+      x: number | null;
+      sgen: number | null;
+    }>(
+      `SELECT floor((extract(epoch FROM time) * 1000 - $2::float8) / $4::float8)::int AS b,
             count(*)::int AS n,
             count(*) FILTER (WHERE valid)::int AS n_valid,
             avg(efficiency) FILTER (WHERE valid) AS eff,
@@ -142,7 +144,8 @@ export async function resultTrend(
        FROM results
       WHERE machine_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
       GROUP BY 1 ORDER BY 1`,
-    [machineId, fromMs, toMs, widthMs, c !== undefined, ...(c ?? [0, 0, 0, 0])],
+      [machineId, fromMs, toMs, widthMs, c !== undefined, ...(c ?? [0, 0, 0, 0])],
+    ),
   );
   return {
     widthMs,

@@ -17,7 +17,9 @@ import {
 } from '../http/schemas.js';
 import { activeBaseline } from '../queries/baselines.js';
 import { getBands, getMachine } from '../queries/machines.js';
+import { withoutJit } from '../queries/nojit.js';
 import { dailyDrift, listResults, type ResultRow, resultTrend } from '../queries/results.js';
+import { CACHE_MIN_BUCKET_MS, CACHE_MIN_RANGE_MS, TrendCache } from '../queries/trend-cache.js';
 
 const n = z.number().nullable();
 
@@ -109,7 +111,10 @@ const trendResponse = z.object({
   buckets: z.array(bucketSchema),
 });
 
+const HOUR = 3_600_000;
+
 export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  const cache = new TrendCache(ctx.pool, ctx.now);
   async function machineOr404(id: number) {
     const m = await getMachine(ctx.pool, id);
     if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
@@ -165,7 +170,12 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       throw new ApiError('API_UNPROCESSABLE', {
         reason: `${buckets} windows asked; at most 20000 per request`,
       });
-    const trend = await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets, baseline);
+    // Long ranges come from the hourly aggregates (whole-hour buckets); short ones from the live query.
+    const hourly = Math.ceil((toMs - fromMs) / buckets / HOUR) * HOUR;
+    const trend =
+      toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
+        ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
+        : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets, baseline);
     return {
       machineId: m.id,
       from: new Date(fromMs).toISOString(),
@@ -260,7 +270,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       const baseline = await activeBaseline(ctx.pool, m.id);
       if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
       const bands = await getBands(ctx.pool, m.id);
-      const days = await dailyDrift(ctx.pool, m.id, fromMs, toMs, baseline);
+      const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, baseline));
       const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
       const iso = (v: number | undefined): string | null =>
         v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
