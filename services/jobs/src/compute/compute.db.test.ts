@@ -78,6 +78,9 @@ beforeAll(async () => {
     seed: 12,
     stuckOutletT: STUCK,
   });
+  // The synthetic writer stores quality 0; stored quality is the OPC DA byte (192 good, 0 bad, as
+  // services/ingest writes it), so the seeded samples are marked good here.
+  await db.pool.query('UPDATE samples SET quality = 192');
   const stats = await backfill(db.pool, { from: T0, to: END - H, fluids });
   expect(stats.points).toBe((2 * (END - H - T0)) / 60_000);
   for (const s of [ex, ac]) backfilled.set(s.machineId, await readResults(db.pool, s.machineId, T0, END));

@@ -4,11 +4,19 @@
  *
  * Identical results however the work is split (incremental minute by minute, or a backfill):
  * the grid is cut into fixed segments anchored on absolute time (default one hour, UTC), and the
- * points of a segment are always computed on the grid [segment start - lookback, segment end +
- * lookahead). The recursive steady-state filter therefore always starts at the same place, the
- * trailing stuck window and the centred spike window (Hampel) always see the same points, and a
- * point's value depends only on the samples, never on where a run began or ended. A point is
- * computed only once the samples up to its lookahead can have arrived (see the job's horizon).
+ * points of a segment are always validated and judged steady on the grid [segment start -
+ * lookback, segment end + lookahead). The recursive steady-state filter therefore always starts at
+ * the same place, the trailing stuck window and the centred spike window (Hampel) always see the
+ * same points, and a point's value depends only on the samples, never on where a run began or
+ * ended. A point is computed only once the samples up to its lookahead can have arrived (see the
+ * job's horizon).
+ *
+ * For speed a whole range is aligned in one pass (alignment is pointwise, so a point's aligned
+ * value is the same on any grid that holds it) and each segment's validation and steady state run
+ * on views of that one grid. The model runs once per running point; its uncertainty comes from
+ * sensitivity coefficients evaluated per operating point of the segment (linearise.ts), the
+ * linearisation points chosen from the segment's own lookback and points only, so incremental
+ * runs and backfills still agree.
  */
 import {
   type AlignedTag,
@@ -26,15 +34,42 @@ import {
   validateAligned,
 } from '@isentrope/monitor';
 import {
+  evaluateMachine,
   evaluateMachineWithUncertainty,
   INSTRUMENT_FAULT_FLAGS,
-  type MachineInput,
+  type MachineResult,
   type MachineUncertainties,
   normalVolumeFlowToMassFlow,
   ThermoError,
 } from '@isentrope/thermo';
 import { JobsError } from '../errors.js';
 import type { PreparedMachine, PreparedTag } from './config.js';
+import {
+  combine,
+  IN_ELECTRICAL_POWER,
+  IN_MASS_FLOW,
+  IN_P_IN,
+  IN_P_OUT,
+  IN_SHAFT_POWER,
+  IN_T_IN,
+  IN_T_OUT,
+  IN_VOLUME_FLOW,
+  type Linearisation,
+  linearise,
+  type ModelTemplate,
+  machineInput,
+  maskOf,
+  N_INPUTS,
+  N_OUTPUTS,
+  OUT_ETA,
+  OUT_ETA_FAN,
+  OUT_ETA_HYDRAULIC,
+  OUT_ETA_POLY,
+  OUT_POWER,
+  OUT_SGEN,
+  OUT_WORK,
+  reflag,
+} from './linearise.js';
 
 /** Raw samples of one tag, sorted by time: times [ms], values [tag unit], quality codes as stored. */
 export interface RawSeries {
@@ -44,11 +79,13 @@ export interface RawSeries {
 }
 
 export interface ComputeOptions {
-  /** Grid step [ms]; default 60 000. */
+  /** Grid step [ms]; default 60 000. `gridMs` is the same setting under its public name. */
   readonly stepMs?: number;
+  /** Grid step [ms] (results at multiples of it); default 60 000. */
+  readonly gridMs?: number;
   /** Longest hold of a sample [ms]; default 5 steps. */
   readonly maxAgeMs?: number;
-  /** Segment length [ms], a multiple of the step; default one hour. */
+  /** Segment length [ms], a multiple of the step; default one hour, or 60 steps when longer. */
   readonly segmentMs?: number;
   /** Grid points computed before a segment (filter warm-up, stuck window); default 60. */
   readonly lookbackPoints?: number;
@@ -56,6 +93,14 @@ export interface ComputeOptions {
   readonly stuckWindow?: number;
   /** Half window of the spike test [points]; default 5; also the lookahead. */
   readonly spikeHalfWindow?: number;
+  /**
+   * Uncertainty propagation: 'segment' (default) evaluates the GUM sensitivity coefficients once
+   * per operating point of a segment (see linearise.ts); 'point' runs the full numerical GUM at
+   * every point (2n + 1 model evaluations each), the reference the segment form is tested against.
+   */
+  readonly gum?: 'segment' | 'point';
+  /** Relative distance in any input beyond which a new linearisation point is taken; default 0.05. */
+  readonly relinearise?: number;
 }
 
 export interface ResolvedComputeOptions {
@@ -65,12 +110,20 @@ export interface ResolvedComputeOptions {
   readonly lookbackPoints: number;
   readonly stuckWindow: number;
   readonly spikeHalfWindow: number;
+  readonly gum: 'segment' | 'point';
+  readonly relinearise: number;
 }
 
 export function resolveComputeOptions(o: ComputeOptions = {}): ResolvedComputeOptions {
-  const stepMs = o.stepMs ?? 60_000;
-  const segmentMs = o.segmentMs ?? 3_600_000;
-  if (!(stepMs > 0) || segmentMs % stepMs !== 0)
+  if (o.gridMs !== undefined && o.stepMs !== undefined && o.gridMs !== o.stepMs)
+    throw new JobsError('JOBS_BAD_CONFIG', `gridMs ${o.gridMs} and stepMs ${o.stepMs} disagree`, {
+      gridMs: o.gridMs,
+      stepMs: o.stepMs,
+    });
+  const stepMs = o.gridMs ?? o.stepMs ?? 60_000;
+  // A coarse grid keeps segments of 60 points, so the lookback stays in proportion to the output.
+  const segmentMs = o.segmentMs ?? Math.max(3_600_000, 60 * stepMs);
+  if (!(stepMs > 0) || !Number.isInteger(stepMs) || segmentMs % stepMs !== 0)
     throw new JobsError(
       'JOBS_BAD_CONFIG',
       `segmentMs ${segmentMs} must be a positive multiple of stepMs ${stepMs}`,
@@ -79,6 +132,9 @@ export function resolveComputeOptions(o: ComputeOptions = {}): ResolvedComputeOp
         segmentMs,
       },
     );
+  const relinearise = o.relinearise ?? 0.05;
+  if (!(relinearise >= 0))
+    throw new JobsError('JOBS_BAD_CONFIG', `relinearise ${relinearise} must be >= 0`, { relinearise });
   return {
     stepMs,
     maxAgeMs: o.maxAgeMs ?? 5 * stepMs,
@@ -86,6 +142,8 @@ export function resolveComputeOptions(o: ComputeOptions = {}): ResolvedComputeOp
     lookbackPoints: o.lookbackPoints ?? 60,
     stuckWindow: o.stuckWindow ?? 30,
     spikeHalfWindow: o.spikeHalfWindow ?? 5,
+    gum: o.gum ?? 'segment',
+    relinearise,
   };
 }
 
@@ -136,6 +194,18 @@ function fin(v: number | undefined): number | null {
   return v !== undefined && Number.isFinite(v) ? v : null;
 }
 
+/**
+ * Stored quality (the OPC DA quality byte, as services/ingest and packages/store write it: bits 7-6
+ * 11 good, 01 uncertain, 00 or 10 bad; OPC Foundation, Data Access Custom Interface Standard 3.0,
+ * 6.8) to the alignment's codes (0 good, 1 uncertain, 2 bad). Substatus and limit bits do not
+ * change the class; a code that is not a non-negative integer counts as bad.
+ */
+export function alignQuality(stored: number): number {
+  if (!Number.isInteger(stored) || stored < 0) return 2;
+  const bits = stored & 0xc0;
+  return bits === 0xc0 ? 0 : bits === 0x40 ? 1 : 2;
+}
+
 function toColumns(tag: PreparedTag, series: RawSeries | undefined): TagColumns {
   if (series === undefined) return { role: tag.role, t: new Float64Array(0), value: new Float64Array(0) };
   const n = series.t.length;
@@ -144,10 +214,173 @@ function toColumns(tag: PreparedTag, series: RawSeries | undefined): TagColumns 
   for (let i = 0; i < n; i++) {
     // Gauge readings stay gauge here [Pa]; the ambient is added per grid point.
     value[i] = tag.intercept + tag.slope * (series.value[i] as number);
-    // Stored code 0 is good; any other code is taken as bad (QUALITY_BAD = 2).
-    quality[i] = (series.quality[i] as number) === 0 ? 0 : 2;
+    quality[i] = alignQuality(series.quality[i] as number);
   }
   return { role: tag.role, t: series.t, value, quality };
+}
+
+/** Point status on the grid, from the inputs alone. */
+const ST_MISSING = 0; // a pressure or temperature is missing: no model
+const ST_STOPPED = 1; // not running: no model
+const ST_REVERSED = 2; // pressure change against the machine kind: an instrument fault, no model
+const ST_MODEL = 3; // the machine model runs
+
+/** A whole range aligned once: SI inputs, their uncertainties and a status per grid point. */
+interface Chunk {
+  readonly machine: PreparedMachine;
+  readonly template: ModelTemplate;
+  readonly startMs: number;
+  readonly aligned: ReturnType<typeof alignTags>;
+  /** Absolute SI values per role (gauge pressures plus the ambient). */
+  readonly si: ReadonlyMap<string, Float64Array>;
+  /** Model inputs per point, N_INPUTS slots each [SI]; NaN = absent. */
+  readonly x: Float64Array;
+  /** Standard uncertainty of each input per point [SI]; 0 = none stated. */
+  readonly u: Float64Array;
+  readonly status: Uint8Array;
+}
+
+const ROLE_SLOTS: readonly (readonly [string, number])[] = [
+  ['inletPressure', IN_P_IN],
+  ['inletTemperature', IN_T_IN],
+  ['outletPressure', IN_P_OUT],
+  ['outletTemperature', IN_T_OUT],
+];
+
+function prepareChunk(
+  machine: PreparedMachine,
+  samples: ReadonlyMap<number, RawSeries>,
+  startMs: number,
+  endMs: number,
+  o: ResolvedComputeOptions,
+): Chunk {
+  const tags = [...machine.tags.values()];
+  const columns = tags.map((tag) => toColumns(tag, samples.get(tag.id)));
+  if (machine.barometer !== undefined)
+    columns.push(toColumns({ ...machine.barometer, role: 'barometer' }, samples.get(machine.barometer.id)));
+  const aligned = alignTags(columns, { startMs, endMs, stepMs: o.stepMs, maxAgeMs: o.maxAgeMs });
+  const n = aligned.t.length;
+  const baro = aligned.tags.get('barometer')?.value;
+  const fixedAmbient = machine.ambientPressure ?? Number.NaN;
+  const si = new Map<string, Float64Array>();
+  for (const tag of tags) {
+    const a = (aligned.tags.get(tag.role) as AlignedTag).value;
+    if (!tag.gauge) {
+      si.set(tag.role, a);
+      continue;
+    }
+    // Ambient pressure per point [Pa] for gauge tags: the barometer when the site has one.
+    const abs = new Float64Array(n);
+    for (let i = 0; i < n; i++)
+      abs[i] = (a[i] as number) + (baro !== undefined ? (baro[i] as number) : fixedAmbient);
+    si.set(tag.role, abs);
+  }
+
+  const x = new Float64Array(n * N_INPUTS).fill(Number.NaN);
+  const u = new Float64Array(n * N_INPUTS);
+  const status = new Uint8Array(n);
+  // Uncertainty from the reading in the tag unit (a percent of reading follows it; gauge stays gauge).
+  const uOf = (tag: PreparedTag, i: number): number => {
+    const raw = (((aligned.tags.get(tag.role) as AlignedTag).value[i] as number) - tag.intercept) / tag.slope;
+    const ui = tag.uncertaintySI(raw);
+    return ui > 0 && Number.isFinite(ui) ? ui : 0;
+  };
+  const colOf = (role: string): Float64Array | undefined => si.get(role);
+  const pIn = colOf('inletPressure') as Float64Array;
+  const tIn = colOf('inletTemperature') as Float64Array;
+  const pOut = colOf('outletPressure') as Float64Array;
+  const tOut = colOf('outletTemperature') as Float64Array;
+  const mCol = colOf('massFlow');
+  const qCol = colOf('volumeFlow');
+  const wCol = colOf('shaftPower');
+  const eCol = colOf('electricalPower');
+  const qTag = machine.tags.get('volumeFlow');
+  let molarMass: number | undefined;
+  if (mCol === undefined && qTag?.normalVolume !== undefined) {
+    const mm: unknown = (machine.fluid as unknown as Readonly<Record<string, unknown>>).molarMass;
+    if (typeof mm !== 'number')
+      throw new JobsError(
+        'JOBS_BAD_CONFIG',
+        `machine ${machine.row.slug}: a normal volume flow needs a gas with a molar mass`,
+        { machine: machine.row.slug, unit: qTag.unit },
+      );
+    molarMass = mm;
+  }
+  const kind = machine.row.kind;
+  const mRated = machine.ratedMassFlow;
+  const driverEfficiency = machine.row.driverEfficiency ?? undefined;
+  const tagOf = (role: string): PreparedTag => machine.tags.get(role) as PreparedTag;
+  for (let i = 0; i < n; i++) {
+    const a = pIn[i] as number;
+    const b = tIn[i] as number;
+    const c = pOut[i] as number;
+    const d = tOut[i] as number;
+    if (!Number.isFinite(a) || !Number.isFinite(b) || !Number.isFinite(c) || !Number.isFinite(d)) continue;
+    const o8 = i * N_INPUTS;
+    x[o8 + IN_P_IN] = a;
+    x[o8 + IN_T_IN] = b;
+    x[o8 + IN_P_OUT] = c;
+    x[o8 + IN_T_OUT] = d;
+    // At rest (no pressure change worth the name) there is no efficiency to judge: a machine
+    // within 2 % of a unit pressure ratio is taken as stopped (common practice, no source).
+    if (Math.abs(c / a - 1) < MIN_RUNNING_RATIO) {
+      status[i] = ST_STOPPED;
+      continue;
+    }
+    const m = mCol?.[i];
+    if (mRated !== undefined && m !== undefined && Number.isFinite(m) && m < MIN_RUNNING_FLOW * mRated) {
+      status[i] = ST_STOPPED;
+      continue;
+    }
+    // A driven machine cannot lower the pressure (nor a turbine raise it): a transmitter is wrong,
+    // most often a gauge reading taken as absolute or the other way round.
+    if (kind === 'turbine' ? c > a : c < a) {
+      status[i] = ST_REVERSED;
+      continue;
+    }
+    status[i] = ST_MODEL;
+    for (const [role, slot] of ROLE_SLOTS) u[o8 + slot] = uOf(tagOf(role), i);
+    if (m !== undefined && Number.isFinite(m)) {
+      x[o8 + IN_MASS_FLOW] = m;
+      u[o8 + IN_MASS_FLOW] = uOf(tagOf('massFlow'), i);
+    } else if (mCol === undefined && qCol !== undefined && qTag !== undefined) {
+      const q = qCol[i] as number;
+      if (Number.isFinite(q)) {
+        if (molarMass !== undefined && qTag.normalVolume !== undefined) {
+          const mq = normalVolumeFlowToMassFlow(q, molarMass, qTag.normalVolume);
+          x[o8 + IN_MASS_FLOW] = mq;
+          // Linear in q: u(m) = u(q) m / q.
+          u[o8 + IN_MASS_FLOW] = (uOf(qTag, i) * mq) / q;
+        } else {
+          x[o8 + IN_VOLUME_FLOW] = q;
+          u[o8 + IN_VOLUME_FLOW] = uOf(qTag, i);
+        }
+      }
+    }
+    const w = wCol?.[i];
+    if (w !== undefined && Number.isFinite(w)) {
+      x[o8 + IN_SHAFT_POWER] = w;
+      u[o8 + IN_SHAFT_POWER] = uOf(tagOf('shaftPower'), i);
+    } else if (driverEfficiency !== undefined) {
+      const e = eCol?.[i];
+      if (e !== undefined && Number.isFinite(e)) {
+        x[o8 + IN_ELECTRICAL_POWER] = e;
+        u[o8 + IN_ELECTRICAL_POWER] = uOf(tagOf('electricalPower'), i);
+      }
+    }
+    // Any uncertainty that came out non-finite is left out, as the per-point GUM leaves it out.
+    for (let k = 0; k < N_INPUTS; k++) if (!Number.isFinite(u[o8 + k] as number)) u[o8 + k] = 0;
+  }
+  return {
+    machine,
+    template: { kind, fluid: machine.fluid, driverEfficiency },
+    startMs,
+    aligned,
+    si,
+    x,
+    u,
+    status,
+  };
 }
 
 /**
@@ -165,56 +398,119 @@ export function computeRange(
   if (!Number.isFinite(fromMs) || !Number.isFinite(toMs) || toMs < fromMs)
     throw new JobsError('JOBS_BAD_RANGE', `bad compute range ${fromMs} to ${toMs} [ms]`, { fromMs, toMs });
   const out: ResultRow[] = [];
-  const { segmentMs } = options;
-  for (let seg = Math.floor(fromMs / segmentMs) * segmentMs; seg < toMs; seg += segmentMs) {
+  if (toMs === fromMs) return out;
+  const { segmentMs, stepMs } = options;
+  const first = Math.floor(fromMs / segmentMs) * segmentMs;
+  const last = Math.ceil(toMs / segmentMs) * segmentMs;
+  const chunk = prepareChunk(
+    machine,
+    samples,
+    first - options.lookbackPoints * stepMs,
+    last + options.spikeHalfWindow * stepMs,
+    options,
+  );
+  for (let seg = first; seg < toMs; seg += segmentMs) {
     const a = Math.max(fromMs, seg);
     const b = Math.min(toMs, seg + segmentMs);
-    if (b > a) out.push(...computeSegment(machine, samples, seg, a, b, options));
+    if (b > a) computeSegment(chunk, seg, a, b, options, out);
   }
   return out;
 }
 
+/** A view of rows [g0, g1) of an aligned grid, with the SI values in place of the aligned ones. */
+function segmentView(ch: Chunk, g0: number, g1: number): ReturnType<typeof alignTags> {
+  const tags = new Map<string, AlignedTag>();
+  for (const [role, a] of ch.aligned.tags) {
+    const v = ch.si.get(role) ?? a.value;
+    tags.set(role, {
+      role,
+      value: v.subarray(g0, g1),
+      coverage: a.coverage.subarray(g0, g1),
+      flags: a.flags.subarray(g0, g1),
+      badCount: a.badCount.subarray(g0, g1),
+      badTotal: a.badTotal,
+    });
+  }
+  return {
+    t: ch.aligned.t.subarray(g0, g1),
+    stepMs: ch.aligned.stepMs,
+    roles: ch.aligned.roles,
+    tags,
+    coverage: ch.aligned.coverage.subarray(g0, g1),
+  };
+}
+
+/** A linearisation point, its sensitivities computed on first use. */
+interface LinPoint {
+  readonly x0: Float64Array;
+  readonly u0: Float64Array;
+  lin: Linearisation | undefined;
+}
+
+/**
+ * The segment's first linearisation point: the median of each input over the model points of the
+ * lookback (the hour before the segment) that carry the same inputs as the last of them. Taken
+ * from the lookback so an incremental run, which has not seen the segment's end, finds it too.
+ */
+function lookbackPoint(ch: Chunk, g0: number, gs: number): LinPoint | undefined {
+  let mask = -1;
+  for (let j = gs - 1; j >= g0; j--)
+    if (ch.status[j] === ST_MODEL) {
+      mask = maskAt(ch.x, j);
+      break;
+    }
+  if (mask < 0) return undefined;
+  const idx: number[] = [];
+  for (let j = g0; j < gs; j++) if (ch.status[j] === ST_MODEL && maskAt(ch.x, j) === mask) idx.push(j);
+  const x0 = new Float64Array(N_INPUTS);
+  const u0 = new Float64Array(N_INPUTS);
+  const buf = new Float64Array(idx.length);
+  for (let k = 0; k < N_INPUTS; k++) {
+    for (const [src, dst] of [
+      [ch.x, x0],
+      [ch.u, u0],
+    ] as const) {
+      idx.forEach((j, q) => {
+        buf[q] = src[j * N_INPUTS + k] as number;
+      });
+      dst[k] = median(buf);
+    }
+  }
+  return { x0, u0, lin: undefined };
+}
+
+function maskAt(x: Float64Array, j: number): number {
+  return maskOf(x, j * N_INPUTS);
+}
+
+function median(a: Float64Array): number {
+  const s = Float64Array.from(a).sort();
+  const n = s.length;
+  if (n === 0) return Number.NaN;
+  return n % 2 === 1 ? (s[n >> 1] as number) : ((s[(n >> 1) - 1] as number) + (s[n >> 1] as number)) / 2;
+}
+
 function computeSegment(
-  machine: PreparedMachine,
-  samples: ReadonlyMap<number, RawSeries>,
+  ch: Chunk,
   segStart: number,
   outFrom: number,
   outTo: number,
   o: ResolvedComputeOptions,
-): ResultRow[] {
+  rows: ResultRow[],
+): void {
   const { stepMs } = o;
-  const gridStart = segStart - o.lookbackPoints * stepMs;
+  const machine = ch.machine;
+  const idx = (ms: number): number => Math.round((ms - ch.startMs) / stepMs);
   // The grid always runs to the segment's end plus the lookahead (not to outTo), so a point
   // computed in a short incremental run equals the same point computed in a backfill.
-  const gridEnd = segStart + o.segmentMs + o.spikeHalfWindow * stepMs;
+  const g0 = idx(segStart - o.lookbackPoints * stepMs);
+  const g1 = idx(segStart + o.segmentMs + o.spikeHalfWindow * stepMs);
+  const gs = idx(segStart);
+  const ia = idx(outFrom);
+  const ib = idx(outTo);
+  const n = g1 - g0;
+  const view = segmentView(ch, g0, g1);
   const tags = [...machine.tags.values()];
-  const columns = tags.map((tag) => toColumns(tag, samples.get(tag.id)));
-  if (machine.barometer !== undefined)
-    columns.push(toColumns({ ...machine.barometer, role: 'barometer' }, samples.get(machine.barometer.id)));
-  const aligned = alignTags(columns, { startMs: gridStart, endMs: gridEnd, stepMs, maxAgeMs: o.maxAgeMs });
-  const n = aligned.t.length;
-  const iFrom = Math.round((outFrom - gridStart) / stepMs);
-  const iTo = Math.round((outTo - gridStart) / stepMs);
-
-  // Ambient pressure per point [Pa] for gauge tags: the barometer when the site has one.
-  const baro = aligned.tags.get('barometer');
-  const ambient = (i: number): number =>
-    baro !== undefined ? (baro.value[i] as number) : (machine.ambientPressure ?? Number.NaN);
-  const si = new Map<string, Float64Array>();
-  for (const tag of tags) {
-    const a = aligned.tags.get(tag.role) as AlignedTag;
-    if (!tag.gauge) {
-      si.set(tag.role, a.value);
-      continue;
-    }
-    const abs = new Float64Array(n);
-    for (let i = 0; i < n; i++) abs[i] = (a.value[i] as number) + ambient(i);
-    si.set(tag.role, abs);
-  }
-  const siAligned = {
-    ...aligned,
-    tags: new Map([...aligned.tags].map(([role, a]) => [role, { ...a, value: si.get(role) ?? a.value }])),
-  };
 
   const validations: TagValidation[] = tags.map((tag) => {
     const toSiBound = (raw: number | undefined): number | undefined =>
@@ -224,7 +520,7 @@ function computeSegment(
     const lo = toSiBound(tag.validMin);
     const hi = toSiBound(tag.validMax);
     // From the segment's own grid, so the threshold never depends on how samples were read.
-    const firstRaw = firstFinite((aligned.tags.get(tag.role) as AlignedTag).value);
+    const firstRaw = firstFinite((ch.aligned.tags.get(tag.role) as AlignedTag).value.subarray(g0, g1));
     const rawRef = (firstRaw - tag.intercept) / tag.slope;
     return {
       role: tag.role,
@@ -241,45 +537,104 @@ function computeSegment(
     };
   });
 
-  // Machine model at the output points.
+  // Machine model at the output points; linearisation points chosen walking from the segment start.
   const secondLaw = new Uint8Array(n);
   const impossible = new Uint8Array(n);
-  const evals: (ReturnType<typeof evaluatePoint> | undefined)[] = new Array(n);
-  for (let i = iFrom; i < iTo; i++) {
-    const e = evaluatePoint(machine, si, aligned.tags, i);
-    evals[i] = e;
-    if (e.secondLaw) secondLaw[i] = 1;
-    if (e.impossible) impossible[i] = 1;
+  const evals: PointEval[] = new Array(ib - ia);
+  let lp = o.gum === 'segment' ? lookbackPoint(ch, g0, gs) : undefined;
+  for (let j = gs; j < ib; j++) {
+    const st = ch.status[j] as number;
+    if (o.gum === 'segment' && st === ST_MODEL) {
+      if (lp === undefined || !nearPoint(lp, ch.x, j, o.relinearise)) {
+        lp = {
+          x0: ch.x.slice(j * N_INPUTS, (j + 1) * N_INPUTS),
+          u0: ch.u.slice(j * N_INPUTS, (j + 1) * N_INPUTS),
+          lin: undefined,
+        };
+      }
+    }
+    if (j < ia) continue;
+    const e = evaluatePoint(ch, j, st, lp, o);
+    evals[j - ia] = e;
+    if (e.secondLaw) secondLaw[j - g0] = 1;
+    if (e.impossible) impossible[j - g0] = 1;
   }
-  const validation = validateAligned(siAligned, validations, { secondLaw, impossible });
-  const steadyInput = machine.keyRoles.map((role) => ({ role, value: si.get(role) as Float64Array }));
+  const validation = validateAligned(view, validations, { secondLaw, impossible });
+  const steadyInput = machine.keyRoles.map((role) => ({
+    role,
+    value: (ch.si.get(role) as Float64Array).subarray(g0, g1),
+  }));
   const steady = detectSteadyState(steadyInput, { valid: validation.valid });
 
-  const rows: ResultRow[] = [];
-  for (let i = iFrom; i < iTo; i++) {
-    const e = evals[i] as ReturnType<typeof evaluatePoint>;
+  const tagResults = [...validation.tags];
+  const machineId = machine.row.id;
+  for (let j = ia; j < ib; j++) {
+    const e = evals[j - ia] as PointEval;
+    const i = j - g0;
     const flags: string[] = [];
-    for (const [role, tv] of validation.tags) {
+    for (const [role, tv] of tagResults) {
       const f = tv.flags[i] as number;
       if (f === 0) continue;
       for (const name of flagNames(f & (VALID_MISSING | VALID_STALE))) flags.push(`${name}:${role}`);
       for (const name of flagNames(f & (VALID_BAD_QUALITY | VALID_RANGE | VALID_STUCK | VALID_SPIKE)))
         flags.push(`${FAULT_PREFIX}${name}:${role}`);
     }
-    flags.push(...e.flags);
+    for (const f of e.flags) flags.push(f);
     const isSteady = steady.steady[i] === 1;
     if (!isSteady) flags.push('not-steady');
     const valid = validation.valid[i] === 1 && e.modelValid;
-    rows.push({
-      ...e.row,
-      machineId: machine.row.id,
-      time: aligned.t[i] as number,
-      steady: isSteady,
-      valid,
-      flags,
-    });
+    rows.push(makeRow(machineId, ch.aligned.t[j] as number, e.row, isSteady, flags, valid));
   }
-  return rows;
+}
+
+function nearPoint(lp: LinPoint, x: Float64Array, j: number, tolerance: number): boolean {
+  const o = j * N_INPUTS;
+  for (let k = 0; k < N_INPUTS; k++) {
+    const a = lp.x0[k] as number;
+    const b = x[o + k] as number;
+    if (Number.isNaN(a) !== Number.isNaN(b)) return false;
+    if (!Number.isNaN(a) && Math.abs(b - a) > tolerance * Math.abs(a)) return false;
+  }
+  return true;
+}
+
+function makeRow(
+  machineId: number,
+  time: number,
+  p: PointRow,
+  steady: boolean,
+  flags: readonly string[],
+  valid: boolean,
+): ResultRow {
+  return {
+    machineId,
+    time,
+    pIn: p.pIn,
+    tIn: p.tIn,
+    hIn: p.hIn,
+    sIn: p.sIn,
+    pOut: p.pOut,
+    tOut: p.tOut,
+    hOut: p.hOut,
+    sOut: p.sOut,
+    tOutS: p.tOutS,
+    hOutS: p.hOutS,
+    massFlow: p.massFlow,
+    efficiency: p.efficiency,
+    uEfficiency: p.uEfficiency,
+    polytropicEfficiency: p.polytropicEfficiency,
+    uPolytropicEfficiency: p.uPolytropicEfficiency,
+    specificWork: p.specificWork,
+    uSpecificWork: p.uSpecificWork,
+    power: p.power,
+    uPower: p.uPower,
+    entropyGeneration: p.entropyGeneration,
+    uEntropyGeneration: p.uEntropyGeneration,
+    operatingPoint: p.operatingPoint,
+    steady,
+    flags,
+    valid,
+  };
 }
 
 function firstFinite(a: ArrayLike<number> | undefined): number {
@@ -290,191 +645,192 @@ function firstFinite(a: ArrayLike<number> | undefined): number {
 
 type PointRow = Omit<ResultRow, 'machineId' | 'time' | 'steady' | 'valid' | 'flags'>;
 
-const EMPTY: PointRow = {
-  pIn: null,
-  tIn: null,
-  hIn: null,
-  sIn: null,
-  pOut: null,
-  tOut: null,
-  hOut: null,
-  sOut: null,
-  tOutS: null,
-  hOutS: null,
-  massFlow: null,
-  efficiency: null,
-  uEfficiency: null,
-  polytropicEfficiency: null,
-  uPolytropicEfficiency: null,
-  specificWork: null,
-  uSpecificWork: null,
-  power: null,
-  uPower: null,
-  entropyGeneration: null,
-  uEntropyGeneration: null,
-  operatingPoint: null,
-};
+interface PointEval {
+  readonly row: PointRow;
+  readonly flags: readonly string[];
+  readonly modelValid: boolean;
+  readonly secondLaw: boolean;
+  readonly impossible: boolean;
+}
+
+function baseRow(pIn: number, tIn: number, pOut: number, tOut: number): PointRow {
+  return {
+    pIn: fin(pIn),
+    tIn: fin(tIn),
+    hIn: null,
+    sIn: null,
+    pOut: fin(pOut),
+    tOut: fin(tOut),
+    hOut: null,
+    sOut: null,
+    tOutS: null,
+    hOutS: null,
+    massFlow: null,
+    efficiency: null,
+    uEfficiency: null,
+    polytropicEfficiency: null,
+    uPolytropicEfficiency: null,
+    specificWork: null,
+    uSpecificWork: null,
+    power: null,
+    uPower: null,
+    entropyGeneration: null,
+    uEntropyGeneration: null,
+    operatingPoint: null,
+  };
+}
+
+const UNCERTAIN_KEYS: readonly (readonly [number, keyof MachineUncertainties])[] = [
+  [IN_P_IN, 'inlet.p'],
+  [IN_T_IN, 'inlet.T'],
+  [IN_P_OUT, 'outlet.p'],
+  [IN_T_OUT, 'outlet.T'],
+  [IN_MASS_FLOW, 'massFlow'],
+  [IN_VOLUME_FLOW, 'volumeFlow'],
+  [IN_SHAFT_POWER, 'shaftPower'],
+  [IN_ELECTRICAL_POWER, 'electricalPower'],
+];
+
+/** The full per-point GUM of @isentrope/thermo (2n + 1 model evaluations): result and u per OUT_* slot. */
+function pointGum(ch: Chunk, j: number, uOut: Float64Array): MachineResult {
+  const unc: MachineUncertainties = {};
+  const o8 = j * N_INPUTS;
+  for (const [slot, key] of UNCERTAIN_KEYS) {
+    const ui = ch.u[o8 + slot] as number;
+    if (ui > 0 && !Number.isNaN(ch.x[o8 + slot] as number)) unc[key] = { kind: 'absolute', value: ui };
+  }
+  const { result, uncertainty: u } = evaluateMachineWithUncertainty(machineInput(ch.template, ch.x, o8), unc);
+  uOut.fill(Number.NaN);
+  uOut[OUT_ETA] = u.isentropicEfficiency ?? Number.NaN;
+  uOut[OUT_ETA_POLY] = u.polytropicEfficiency ?? Number.NaN;
+  uOut[OUT_WORK] = u.specificWork ?? Number.NaN;
+  uOut[OUT_POWER] = u.power ?? Number.NaN;
+  uOut[OUT_SGEN] = u.entropyGeneration ?? Number.NaN;
+  uOut[OUT_ETA_HYDRAULIC] = u.hydraulicEfficiency ?? Number.NaN;
+  uOut[OUT_ETA_FAN] = u.fanEfficiency ?? Number.NaN;
+  return result;
+}
+
+const uScratch = new Float64Array(N_OUTPUTS);
 
 function evaluatePoint(
-  machine: PreparedMachine,
-  si: ReadonlyMap<string, Float64Array>,
-  aligned: ReadonlyMap<string, AlignedTag>,
-  i: number,
-): { row: PointRow; flags: string[]; modelValid: boolean; secondLaw: boolean; impossible: boolean } {
-  const v = (role: string): number | undefined => {
-    const a = si.get(role);
-    const x = a?.[i];
-    return x !== undefined && Number.isFinite(x) ? x : undefined;
-  };
-  const pIn = v('inletPressure');
-  const tIn = v('inletTemperature');
-  const pOut = v('outletPressure');
-  const tOut = v('outletTemperature');
-  const base: PointRow = { ...EMPTY, pIn: fin(pIn), tIn: fin(tIn), pOut: fin(pOut), tOut: fin(tOut) };
-  if (pIn === undefined || tIn === undefined || pOut === undefined || tOut === undefined)
-    return { row: base, flags: [], modelValid: false, secondLaw: false, impossible: false };
-
-  const flags: string[] = [];
-  const kind = machine.row.kind;
+  ch: Chunk,
+  j: number,
+  status: number,
+  lp: LinPoint | undefined,
+  o: ResolvedComputeOptions,
+): PointEval {
+  const machine = ch.machine;
+  const o8 = j * N_INPUTS;
+  const pIn = ch.x[o8 + IN_P_IN] as number;
+  const tIn = ch.x[o8 + IN_T_IN] as number;
+  const pOut = ch.x[o8 + IN_P_OUT] as number;
+  const tOut = ch.x[o8 + IN_T_OUT] as number;
+  if (status === ST_MISSING) {
+    const col = (role: string): number => ch.si.get(role)?.[j] ?? Number.NaN;
+    return {
+      row: baseRow(
+        col('inletPressure'),
+        col('inletTemperature'),
+        col('outletPressure'),
+        col('outletTemperature'),
+      ),
+      flags: NO_FLAGS,
+      modelValid: false,
+      secondLaw: false,
+      impossible: false,
+    };
+  }
+  const base = baseRow(pIn, tIn, pOut, tOut);
+  let flags: string[] | undefined;
   // Gauge/absolute mix-up: a pressure about one atmosphere off its rated value (common practice, no source).
-  for (const [role, p, rated] of [
-    ['inletPressure', pIn, machine.ratedInletPressure],
-    ['outletPressure', pOut, machine.ratedOutletPressure],
-  ] as const) {
-    if (rated === undefined) continue;
+  const suspect = (role: string, p: number, rated: number | undefined): void => {
+    if (rated === undefined) return;
     const off = Math.abs(Math.abs(p - rated) - 101_325);
-    if (off < GAUGE_SUSPECT_TOLERANCE * 101_325) flags.push(`${FAULT_PREFIX}gauge-absolute-suspect:${role}`);
-  }
-  // At rest (no pressure change worth the name) there is no efficiency to judge: a machine
-  // within 2 % of a unit pressure ratio is taken as stopped (common practice, no source).
-  if (Math.abs(pOut / pIn - 1) < MIN_RUNNING_RATIO) {
-    flags.push('not-running');
+    if (off < GAUGE_SUSPECT_TOLERANCE * 101_325)
+      (flags ??= []).push(`${FAULT_PREFIX}gauge-absolute-suspect:${role}`);
+  };
+  suspect('inletPressure', pIn, machine.ratedInletPressure);
+  suspect('outletPressure', pOut, machine.ratedOutletPressure);
+  if (status === ST_STOPPED) {
+    (flags ??= []).push('not-running');
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
   }
-  const mRated = machine.ratedMassFlow;
-  const m = v('massFlow');
-  if (mRated !== undefined && m !== undefined && m < MIN_RUNNING_FLOW * mRated) {
-    flags.push('not-running');
-    return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
-  }
-  const reversed = kind === 'turbine' ? pOut > pIn : pOut < pIn;
-  if (reversed) {
-    // A driven machine cannot lower the pressure (nor a turbine raise it): a transmitter is wrong,
-    // most often a gauge reading taken as absolute or the other way round.
-    flags.push(`${FAULT_PREFIX}${kind === 'turbine' ? 'outlet-above-inlet' : 'outlet-below-inlet'}`);
+  if (status === ST_REVERSED) {
+    (flags ??= []).push(
+      `${FAULT_PREFIX}${machine.row.kind === 'turbine' ? 'outlet-above-inlet' : 'outlet-below-inlet'}`,
+    );
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: true };
   }
-
-  const tag = (role: string): PreparedTag | undefined => machine.tags.get(role);
-  const rawOf = (role: string): number => {
-    const t = tag(role) as PreparedTag;
-    const a = aligned.get(role) as AlignedTag;
-    // Back to the tag unit for a percent-of-reading uncertainty (gauge readings stay gauge).
-    return ((a.value[i] as number) - t.intercept) / t.slope;
-  };
-  const unc: Record<string, { kind: 'absolute'; value: number }> = {};
-  const addU = (key: string, role: string, scale = 1): void => {
-    const t = tag(role);
-    if (t === undefined) return;
-    const u = t.uncertaintySI(rawOf(role)) * scale;
-    if (u > 0 && Number.isFinite(u)) unc[key] = { kind: 'absolute', value: u };
-  };
-  addU('inlet.p', 'inletPressure');
-  addU('inlet.T', 'inletTemperature');
-  addU('outlet.p', 'outletPressure');
-  addU('outlet.T', 'outletTemperature');
-
-  let massFlow = v('massFlow');
-  let volumeFlow: number | undefined;
-  if (massFlow !== undefined) addU('massFlow', 'massFlow');
-  else {
-    const q = v('volumeFlow');
-    const qt = tag('volumeFlow');
-    if (q !== undefined && qt !== undefined) {
-      if (qt.normalVolume !== undefined) {
-        const molarMass: unknown = (machine.fluid as unknown as Readonly<Record<string, unknown>>).molarMass;
-        if (typeof molarMass !== 'number')
-          throw new JobsError(
-            'JOBS_BAD_CONFIG',
-            `machine ${machine.row.slug}: a normal volume flow needs a gas with a molar mass`,
-            {
-              machine: machine.row.slug,
-              unit: qt.unit,
-            },
-          );
-        massFlow = normalVolumeFlowToMassFlow(q, molarMass, qt.normalVolume);
-        addU('massFlow', 'volumeFlow', massFlow / q);
-      } else {
-        volumeFlow = q;
-        addU('volumeFlow', 'volumeFlow');
+  const u = uScratch;
+  let r: MachineResult;
+  try {
+    if (o.gum === 'point' || lp === undefined) r = pointGum(ch, j, u);
+    else {
+      lp.lin ??= linearise(ch.template, lp.x0, lp.u0);
+      if (lp.lin.c === undefined) r = pointGum(ch, j, u);
+      else {
+        r = evaluateMachine(machineInput(ch.template, ch.x, o8));
+        combine(lp.lin, ch.u, o8, u);
+        r = reflag(r, u);
       }
     }
-  }
-  const shaftPower = v('shaftPower');
-  const electricalPower = shaftPower === undefined ? v('electricalPower') : undefined;
-  if (shaftPower !== undefined) addU('shaftPower', 'shaftPower');
-  if (electricalPower !== undefined) addU('electricalPower', 'electricalPower');
-  const driverEfficiency =
-    electricalPower !== undefined ? (machine.row.driverEfficiency ?? undefined) : undefined;
-
-  const input: MachineInput = {
-    kind,
-    fluid: machine.fluid,
-    inlet: { p: pIn, T: tIn },
-    outlet: { p: pOut, T: tOut },
-    massFlow,
-    volumeFlow,
-    shaftPower,
-    electricalPower: driverEfficiency !== undefined ? electricalPower : undefined,
-    driverEfficiency,
-  };
-  try {
-    const { result: r, uncertainty: u } = evaluateMachineWithUncertainty(input, unc as MachineUncertainties);
-    for (const f of r.flags) flags.push(INSTRUMENT_FAULT_FLAGS.has(f) ? `${FAULT_PREFIX}${f}` : f);
-    const power = r.power;
-    const op =
-      machine.operatingPoint === 'pressureRatio'
-        ? pOut / pIn
-        : machine.operatingPoint === 'load'
-          ? (r.shaftPowerUsed ?? power)
-          : r.massFlow;
-    return {
-      row: {
-        ...base,
-        hIn: r.inlet.h,
-        sIn: r.inlet.s,
-        hOut: r.outlet.h,
-        sOut: r.outlet.s,
-        tOut: r.outlet.T,
-        tOutS: r.outletIsentropic.T,
-        hOutS: r.outletIsentropic.h,
-        massFlow: fin(r.massFlow),
-        efficiency: fin(r.isentropicEfficiency),
-        uEfficiency: fin(u.isentropicEfficiency),
-        polytropicEfficiency: fin(r.polytropicEfficiency),
-        uPolytropicEfficiency: fin(u.polytropicEfficiency),
-        specificWork: fin(r.specificWork),
-        uSpecificWork: fin(u.specificWork),
-        power: fin(power),
-        uPower: fin(u.power),
-        entropyGeneration: fin(r.entropyGeneration),
-        uEntropyGeneration: fin(u.entropyGeneration),
-        operatingPoint: fin(op),
-      },
-      flags,
-      // A machine at rest or without head has no meaningful efficiency (not an instrument fault).
-      modelValid:
-        r.valid &&
-        r.isentropicEfficiency !== undefined &&
-        !r.flags.some((f) => f === 'no-flow' || f === 'low-head' || f === 'no-work'),
-      secondLaw: r.flags.includes('second-law-violation'),
-      impossible:
-        r.flags.includes('efficiency-above-one') || r.flags.includes('outlet-colder-than-isentropic'),
-    };
   } catch (error) {
     if (!(error instanceof ThermoError)) throw error;
     // Readings outside a property model's range: the point has no figures, and says why.
-    flags.push(`model-error:${error.code}`);
+    (flags ??= []).push(`model-error:${error.code}`);
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
   }
+  for (const f of r.flags) (flags ??= []).push(INSTRUMENT_FAULT_FLAGS.has(f) ? `${FAULT_PREFIX}${f}` : f);
+  const power = r.power;
+  const op =
+    machine.operatingPoint === 'pressureRatio'
+      ? pOut / pIn
+      : machine.operatingPoint === 'load'
+        ? (r.shaftPowerUsed ?? power)
+        : r.massFlow;
+  const withU = (v: number | undefined, k: number): number | null =>
+    v === undefined || !Number.isFinite(v) ? null : fin(u[k]);
+  const row: PointRow = {
+    pIn: base.pIn,
+    tIn: base.tIn,
+    hIn: r.inlet.h,
+    sIn: r.inlet.s,
+    pOut: base.pOut,
+    tOut: r.outlet.T,
+    hOut: r.outlet.h,
+    sOut: r.outlet.s,
+    tOutS: r.outletIsentropic.T,
+    hOutS: r.outletIsentropic.h,
+    massFlow: fin(r.massFlow),
+    efficiency: fin(r.isentropicEfficiency),
+    uEfficiency: withU(r.isentropicEfficiency, OUT_ETA),
+    polytropicEfficiency: fin(r.polytropicEfficiency),
+    uPolytropicEfficiency: withU(r.polytropicEfficiency, OUT_ETA_POLY),
+    specificWork: fin(r.specificWork),
+    uSpecificWork: withU(r.specificWork, OUT_WORK),
+    power: fin(power),
+    uPower: withU(power, OUT_POWER),
+    entropyGeneration: fin(r.entropyGeneration),
+    uEntropyGeneration: withU(r.entropyGeneration, OUT_SGEN),
+    operatingPoint: fin(op),
+  };
+  let noEfficiency = false;
+  let secondLaw = false;
+  let impossibleFlag = false;
+  for (const f of r.flags) {
+    if (f === 'no-flow' || f === 'low-head' || f === 'no-work') noEfficiency = true;
+    else if (f === 'second-law-violation') secondLaw = true;
+    else if (f === 'efficiency-above-one' || f === 'outlet-colder-than-isentropic') impossibleFlag = true;
+  }
+  return {
+    row,
+    flags: flags ?? NO_FLAGS,
+    // A machine at rest or without head has no meaningful efficiency (not an instrument fault).
+    modelValid: r.valid && r.isentropicEfficiency !== undefined && !noEfficiency,
+    secondLaw,
+    impossible: impossibleFlag,
+  };
 }
+
+const NO_FLAGS: readonly string[] = [];
