@@ -164,7 +164,7 @@ export const TAG_ROLE_DIMENSIONS = {
   inletTemperature: ['temperature'],
   outletPressure: ['pressure', 'gaugePressure'],
   outletTemperature: ['temperature'],
-  differentialPressure: ['pressure', 'gaugePressure'],
+  differentialPressure: ['pressureDifference', 'pressure', 'gaugePressure'],
   massFlow: ['massFlow'],
   volumeFlow: ['volumeFlow', 'normalVolumeFlow'],
   shaftPower: ['power'],
@@ -177,6 +177,7 @@ export const TAG_ROLE_DIMENSIONS = {
   other: [
     'pressure',
     'gaugePressure',
+    'pressureDifference',
     'temperature',
     'massFlow',
     'volumeFlow',
