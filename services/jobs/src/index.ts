@@ -1,6 +1,15 @@
+export * from './alerts/bodies.js';
+export * from './alerts/config.js';
+export * from './alerts/job.js';
+export * from './alerts/store.js';
+export * from './analysis/baseline.js';
+export * from './analysis/job.js';
+export * from './analysis/windows.js';
 export * from './compute/config.js';
 export * from './compute/job.js';
 export * from './compute/pipeline.js';
 export * from './errors.js';
+export * from './monthly/job.js';
+export * from './notifications/sender.js';
 export { readResults, writeResults } from './queries/results.js';
 export * from './scheduler.js';

@@ -9,14 +9,12 @@ import { randomUUID } from 'node:crypto';
 import cron from 'node-cron';
 import pg from 'pg';
 import type { Logger } from 'pino';
+import { type AnalysisJobsConfig, analysisJobBodies } from './alerts/bodies.js';
 import { type ComputeJobOptions, runComputeOnce } from './compute/job.js';
 
 export type JobName = 'compute' | 'alerts' | 'notifications' | 'monthly' | 'retention';
 
-export interface JobsConfig {
-  readonly webhookUrl?: string;
-  readonly webhookSecret?: string;
-  readonly smtp?: { readonly url: string; readonly from: string; readonly to: string };
+export interface JobsConfig extends AnalysisJobsConfig {
   /** Site time zone for the monthly export (IANA); default UTC. */
   readonly timeZone?: string;
   readonly compute?: ComputeJobOptions;
@@ -29,7 +27,7 @@ export interface JobsDeps {
   /** Now [ms]; default Date.now. */
   readonly clock?: () => number;
   readonly config: JobsConfig;
-  /** Job bodies; the defaults run the compute job and leave the rest to their modules. */
+  /** Job bodies; the defaults: compute, alerts (analysis then alerts), notifications, and monthly when config.monthly is set. */
   readonly jobs?: Partial<Record<JobName, (tickMs: number) => Promise<unknown>>>;
   /** Do not start node-cron (tests drive runTick themselves). */
   readonly manual?: boolean;
@@ -81,6 +79,7 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
         nowMs: tickMs,
         onMachineError: (machineId, err) => log.error({ err, machineId }, 'compute failed for a machine'),
       }),
+    ...analysisJobBodies({ pool: deps.pool, config: deps.config, logger: log }),
     ...deps.jobs,
   };
   const connections = new Map<JobName, pg.Client>();

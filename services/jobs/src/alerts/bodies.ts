@@ -1,0 +1,80 @@
+/**
+ * The job bodies of the analysis layer, as startJobs installs them:
+ *  - alerts (each minute, after compute): the analysis pass (baseline, drift series, machine
+ *    status) then the alert pass, in that order, under the one lock of the 'alerts' job;
+ *  - notifications (every 10 s): one drain of the outbox;
+ *  - monthly (1st, 02:00 site time): the monthly export, only when config.monthly is given.
+ */
+import type pg from 'pg';
+import type { Logger } from 'pino';
+import { type AnalysisOptions, runAnalysisOnce } from '../analysis/job.js';
+import { type MonthlyOptions, runMonthlyExport } from '../monthly/job.js';
+import {
+  ensureConfiguredTargets,
+  type Mailer,
+  runNotificationsOnce,
+  type SenderOptions,
+} from '../notifications/sender.js';
+import { type AlertsOptions, runAlertsOnce } from './job.js';
+
+export interface AnalysisJobsConfig {
+  readonly webhookUrl?: string;
+  readonly webhookSecret?: string;
+  /** SMTP URL (nodemailer), sender and the address alerts go to. */
+  readonly smtp?: { readonly url: string; readonly from: string; readonly to: string };
+  readonly analysis?: Omit<AnalysisOptions, 'machineIds'>;
+  readonly alerts?: Omit<AlertsOptions, 'nowMs' | 'machineIds'>;
+  readonly notifications?: Omit<SenderOptions, 'nowMs' | 'webhookSecret' | 'mailer' | 'mailFrom'>;
+  /** Present: schedule the monthly export (energy price optional). */
+  readonly monthly?: Omit<MonthlyOptions, 'nowMs'>;
+  /** A ready mail transport (tests: nodemailer's JSON transport); default one made from smtp.url. */
+  readonly mailer?: Mailer;
+}
+
+export type JobBody = (tickMs: number) => Promise<unknown>;
+
+export function analysisJobBodies(deps: {
+  readonly pool: pg.Pool;
+  readonly config: AnalysisJobsConfig;
+  readonly logger: Logger;
+}): { alerts: JobBody; notifications: JobBody; monthly?: JobBody } {
+  const { pool, config } = deps;
+  const log = deps.logger.child({ module: 'alerts' });
+  let mailer: Mailer | undefined = config.mailer;
+  let targetsReady = false;
+  const bodies: { alerts: JobBody; notifications: JobBody; monthly?: JobBody } = {
+    alerts: async (tickMs) => {
+      const analysis = await runAnalysisOnce(pool, { ...config.analysis, nowMs: tickMs });
+      for (const a of analysis)
+        if (a.baseline.startsWith('failed'))
+          log.warn({ machineId: a.machineId, fit: a.baseline }, 'baseline fit failed');
+      const alerts = await runAlertsOnce(pool, { ...config.alerts, nowMs: tickMs });
+      return {
+        analysed: analysis.length,
+        driftRows: analysis.reduce((s, a) => s + a.driftRows, 0),
+        ...alerts,
+      };
+    },
+    notifications: async (tickMs) => {
+      if (!targetsReady) {
+        await ensureConfiguredTargets(pool, { webhookUrl: config.webhookUrl, emailTo: config.smtp?.to });
+        targetsReady = true;
+      }
+      if (mailer === undefined && config.smtp !== undefined) {
+        const nodemailer = await import('nodemailer');
+        mailer = nodemailer.createTransport(config.smtp.url);
+      }
+      return runNotificationsOnce(pool, {
+        ...config.notifications,
+        nowMs: tickMs,
+        webhookSecret: config.webhookSecret,
+        mailer,
+        mailFrom: config.smtp?.from,
+      });
+    },
+  };
+  const monthly = config.monthly;
+  if (monthly !== undefined)
+    bodies.monthly = (tickMs) => runMonthlyExport(pool, { ...monthly, nowMs: tickMs });
+  return bodies;
+}

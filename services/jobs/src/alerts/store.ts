@@ -1,0 +1,239 @@
+/**
+ * Alert rows and their lifecycle in the database. The state is read from the alerts table at each
+ * step (an operator's acknowledge or shelve through the API is respected) and advanced with the
+ * monitor reducer stepAlert using condition events only (activate, clear) and the clock (tick, for
+ * shelve expiry). Every transition is stored in alert_events (actor 'system') and audit_log; the
+ * alert_events insert enqueues its notifications in the same transaction (outbox trigger,
+ * migrations/0004).
+ */
+import {
+  type AlertEvent,
+  type AlertState,
+  type AlertStatus,
+  CAUTION,
+  initialAlert,
+  stepAlert,
+} from '@isentrope/monitor';
+import { appendAudit } from '@isentrope/store';
+import type { Queryable } from '../queries/machines.js';
+import type { AlertSeverityColumn } from './config.js';
+
+export type AlertDbState =
+  | 'normal'
+  | 'active_unacknowledged'
+  | 'active_acknowledged'
+  | 'returned_unacknowledged'
+  | 'shelved'
+  | 'suppressed'
+  | 'out_of_service';
+
+/** Stored states (migrations/0003) to the reducer's statuses (packages/monitor/src/alerts.ts). */
+export const DB_TO_STATUS: Readonly<Record<Exclude<AlertDbState, 'suppressed'>, AlertStatus>> = {
+  normal: 'normal',
+  active_unacknowledged: 'active-unack',
+  active_acknowledged: 'active-ack',
+  returned_unacknowledged: 'rtn-unack',
+  shelved: 'shelved',
+  out_of_service: 'out-of-service',
+};
+export const STATUS_TO_DB: Readonly<Record<AlertStatus, AlertDbState>> = {
+  normal: 'normal',
+  'active-unack': 'active_unacknowledged',
+  'active-ack': 'active_acknowledged',
+  'rtn-unack': 'returned_unacknowledged',
+  shelved: 'shelved',
+  'out-of-service': 'out_of_service',
+};
+
+export interface OpenAlertRow {
+  id: number;
+  category: 'drift' | 'instrument';
+  tag_id: number | null;
+  level: 'warning' | 'alarm';
+  state: AlertDbState;
+  shelved_until_ms: number | null;
+  shelved_by: string | null;
+  cleared_at: Date | null;
+  evidence: Record<string, unknown>;
+}
+
+/** Open alerts of a machine (not normal), locked for this transaction. */
+export async function lockOpenAlerts(db: Queryable, machineId: number): Promise<OpenAlertRow[]> {
+  const res = await db.query<OpenAlertRow>(
+    `SELECT id::int, category, tag_id, level, state,
+            (extract(epoch FROM shelved_until) * 1000)::float8 AS shelved_until_ms, shelved_by, cleared_at, evidence
+       FROM alerts WHERE machine_id = $1 AND state <> 'normal' ORDER BY id FOR UPDATE`,
+    [machineId],
+  );
+  return res.rows;
+}
+
+/**
+ * The reducer's state of a stored row (the same reading as the API's): the condition is active in
+ * the active states, inactive once returned or normal; while shelved or out of service it is
+ * active unless cleared_at is set (this job sets it when the condition returns).
+ */
+export function rowToState(a: OpenAlertRow): AlertState | undefined {
+  if (a.state === 'suppressed') return undefined; // not a reducer state: left to the operator
+  const status = DB_TO_STATUS[a.state];
+  const conditionActive =
+    status === 'active-unack' || status === 'active-ack'
+      ? true
+      : status === 'rtn-unack' || status === 'normal'
+        ? false
+        : a.cleared_at === null;
+  return {
+    type: a.category === 'instrument' ? 'instrument-fault' : 'drift',
+    status,
+    conditionActive,
+    severity: a.level,
+    ...(a.shelved_until_ms !== null ? { shelvedUntil: a.shelved_until_ms } : {}),
+    ...(a.shelved_by !== null ? { shelvedBy: a.shelved_by } : {}),
+  };
+}
+
+export interface AlertTarget {
+  readonly machineId: number;
+  readonly category: 'drift' | 'instrument';
+  readonly tagId: number | null;
+  readonly severity: AlertSeverityColumn;
+}
+
+export interface ConditionContext {
+  /** Evidence to store with an activation (the CAUTION text is added). */
+  readonly evidence: Record<string, unknown>;
+  /** Message of an activation; the CAUTION text is appended. */
+  readonly message: string;
+}
+
+export interface AppliedStep {
+  readonly alertId: number | undefined;
+  readonly transitions: number;
+  /** The open row after the step (undefined once normal). */
+  readonly open: OpenAlertRow | undefined;
+}
+
+/** Message text with the caution, as stored and sent. */
+export function withCaution(message: string): string {
+  return `${message} ${CAUTION}`;
+}
+
+/**
+ * Apply a condition event (activate / clear) or a tick at time `at` [ms] to the target's open
+ * alert (or a new one), store the row, its events and the audit rows.
+ */
+export async function applyAlertEvent(
+  db: Queryable,
+  target: AlertTarget,
+  open: OpenAlertRow | undefined,
+  event: AlertEvent,
+  at: number,
+  ctx: ConditionContext | undefined,
+): Promise<AppliedStep> {
+  const before = open === undefined ? undefined : rowToState(open);
+  if (open !== undefined && before === undefined) return { alertId: open.id, transitions: 0, open };
+  const state = before ?? initialAlert(target.category === 'instrument' ? 'instrument-fault' : 'drift');
+  const step = stepAlert(state, event, at);
+  if (step.rejected !== undefined) return { alertId: open?.id, transitions: 0, open };
+  if (event.type === 'tick' && step.transitions.length === 0)
+    return { alertId: open?.id, transitions: 0, open };
+  const s = step.state;
+  const when = new Date(at);
+  const evidence = ctx === undefined ? undefined : { ...ctx.evidence, caution: CAUTION };
+  let id = open?.id;
+  let row = open;
+  if (open === undefined) {
+    if (s.status === 'normal') return { alertId: undefined, transitions: 0, open: undefined };
+    const level = event.type === 'activate' ? event.severity : 'warning';
+    const ins = await db.query<{ id: number }>(
+      `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, evidence, raised_at, updated_at)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $9) RETURNING id::int`,
+      [
+        target.machineId,
+        target.category,
+        target.tagId,
+        level,
+        target.severity,
+        STATUS_TO_DB[s.status],
+        withCaution(ctx?.message ?? `${target.category} condition active`),
+        JSON.stringify(evidence ?? { caution: CAUTION }),
+        when,
+      ],
+    );
+    id = (ins.rows[0] as { id: number }).id;
+    row = {
+      id,
+      category: target.category,
+      tag_id: target.tagId,
+      level,
+      state: STATUS_TO_DB[s.status],
+      shelved_until_ms: null,
+      shelved_by: null,
+      cleared_at: null,
+      evidence: evidence ?? {},
+    };
+  } else {
+    const activate = event.type === 'activate';
+    const clear = event.type === 'clear';
+    const level = activate ? event.severity : open.level;
+    const clearedAt = activate ? null : clear ? (open.cleared_at ?? when) : open.cleared_at;
+    const newEvidence = activate
+      ? (evidence ?? open.evidence)
+      : clear
+        ? { ...open.evidence, returnedAt: when.toISOString(), returnedWith: ctx?.evidence ?? null }
+        : open.evidence;
+    await db.query(
+      `UPDATE alerts SET state = $2, level = $3, evidence = $4, cleared_at = $5,
+              message = CASE WHEN $6::text IS NULL THEN message ELSE $6 END,
+              shelved_until = $7, shelved_by = $8, updated_at = $9
+        WHERE id = $1`,
+      [
+        open.id,
+        STATUS_TO_DB[s.status],
+        level,
+        JSON.stringify(newEvidence),
+        clearedAt,
+        activate && ctx !== undefined ? withCaution(ctx.message) : null,
+        s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
+        s.shelvedBy ?? null,
+        when,
+      ],
+    );
+    row = {
+      ...open,
+      level,
+      state: STATUS_TO_DB[s.status],
+      shelved_until_ms: s.shelvedUntil ?? null,
+      shelved_by: s.shelvedBy ?? null,
+      cleared_at: clearedAt,
+      evidence: newEvidence,
+    };
+  }
+  for (const t of step.transitions) {
+    const ev = await db.query<{ id: number }>(
+      `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note, data)
+       VALUES ($1, $2, $3, $4, 'system', $5, $6) RETURNING id::int`,
+      [
+        id,
+        new Date(t.at),
+        STATUS_TO_DB[t.from],
+        STATUS_TO_DB[t.to],
+        t.reason,
+        JSON.stringify({ reason: t.reason, evidence: evidence ?? null, caution: CAUTION }),
+      ],
+    );
+    await appendAudit(db, {
+      actor: 'system',
+      action: 'alert.transition',
+      entity: 'alert',
+      entityId: id,
+      before: { state: STATUS_TO_DB[t.from] },
+      after: { state: STATUS_TO_DB[t.to], reason: t.reason, eventId: ev.rows[0]?.id ?? null },
+    });
+  }
+  return {
+    alertId: id,
+    transitions: step.transitions.length,
+    open: row === undefined || row.state === 'normal' ? undefined : row,
+  };
+}
