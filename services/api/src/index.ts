@@ -1,1 +1,5 @@
 export * from './app.js';
+export { API_ERRORS, ApiError, type ApiErrorCode, type Problem, toProblem } from './errors.js';
+export { createMetricsRegistry, type GaugeCollector, type Labels, MetricsRegistry } from './metrics.js';
+export { type GatherMonthlyOptions, gatherMonthlyInput } from './queries/monthly.js';
+export { EXPORT_KIND, renderMonthlyExport } from './routes/exports.js';

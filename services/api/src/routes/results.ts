@@ -3,7 +3,7 @@ import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
 import { ApiError } from '../errors.js';
-import { notModified } from '../http/etag.js';
+import { sendJsonWithEtag } from '../http/etag.js';
 import {
   decodeCursor,
   encodeCursor,
@@ -203,8 +203,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
     },
     async (request, reply) => {
       const body = await buildTrend(request.params.id, request.query, { buckets: request.query.buckets });
-      if (notModified(request, reply, body)) return reply;
-      return body;
+      return sendJsonWithEtag(request, reply, body);
     },
   );
 
@@ -229,8 +228,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
     },
     async (request, reply) => {
       const body = await buildTrend(request.params.id, request.query, { windowS: request.query.windowS });
-      if (notModified(request, reply, body)) return reply;
-      return body;
+      return sendJsonWithEtag(request, reply, body);
     },
   );
 
