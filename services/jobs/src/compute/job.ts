@@ -8,8 +8,10 @@ import { JobsError } from '../errors.js';
 import { loadMachines } from '../queries/machines.js';
 import {
   ensureResultPartitions,
-  readComputeWatermark,
+  readComputeWatermarks,
+  replaceResultsRange,
   writeComputeWatermark,
+  writeComputeWatermarks,
   writeResults,
 } from '../queries/results.js';
 import { earliestSample, readSamples } from '../queries/samples.js';
@@ -17,7 +19,9 @@ import { defaultFluidResolver, type FluidResolver, type PreparedMachine, prepare
 import {
   type ComputeOptions,
   computeRange,
+  type RawSeries,
   type ResolvedComputeOptions,
+  type ResultRow,
   resolveComputeOptions,
 } from './pipeline.js';
 
@@ -56,41 +60,83 @@ function allTagIds(m: PreparedMachine): number[] {
   return ids;
 }
 
-/** Compute and write [fromMs, toMs) for one machine, reading samples in chunks of `chunkMs`. */
+/** Marks a promise's rejection as handled now; it still rejects where it is awaited. */
+function settleLater<T>(p: Promise<T>): Promise<T> {
+  p.catch(() => {});
+  return p;
+}
+
+/**
+ * Compute and write [fromMs, toMs) for one machine, reading samples in chunks of `chunkMs`. The
+ * next chunk's samples are read and the last chunk's rows written (binary COPY) while a chunk is
+ * computed, so the database and the model work at the same time.
+ */
 export async function computeMachineRange(
   pool: pg.Pool,
   machine: PreparedMachine,
   fromMs: number,
   toMs: number,
   o: ResolvedComputeOptions,
-  chunkMs = 86_400_000,
+  chunkMs = 7 * 86_400_000,
   onChunk?: (doneToMs: number, points: number) => void,
 ): Promise<number> {
   const ids = allTagIds(machine);
-  let points = 0;
   // Chunks end on segment boundaries so each segment is read whole.
   const chunk = Math.max(o.segmentMs, Math.floor(chunkMs / o.segmentMs) * o.segmentMs);
+  const ranges: [number, number][] = [];
   for (let a = fromMs; a < toMs; ) {
     const b = Math.min(toMs, (Math.floor(a / chunk) + 1) * chunk);
+    ranges.push([a, b]);
+    a = b;
+  }
+  const read = ([a, b]: [number, number]) => {
     const segA = Math.floor(a / o.segmentMs) * o.segmentMs;
     const segB = Math.ceil(b / o.segmentMs) * o.segmentMs;
-    const samples = await readSamples(
-      pool,
-      ids,
-      segA - o.lookbackPoints * o.stepMs - o.maxAgeMs,
-      segB + (o.spikeHalfWindow + 1) * o.stepMs,
+    return settleLater(
+      readSamples(
+        pool,
+        ids,
+        segA - o.lookbackPoints * o.stepMs - o.maxAgeMs,
+        segB + (o.spikeHalfWindow + 1) * o.stepMs,
+      ),
     );
+  };
+  let points = 0;
+  let next = ranges[0] === undefined ? undefined : read(ranges[0]);
+  let writing: Promise<void> = Promise.resolve();
+  for (let k = 0; k < ranges.length; k++) {
+    const [a, b] = ranges[k] as [number, number];
+    const samples = await (next as Promise<Map<number, RawSeries>>);
+    const following = ranges[k + 1];
+    next = following === undefined ? undefined : read(following);
     const rows = computeRange(machine, samples, a, b, o);
-    await ensureResultPartitions(pool, a, b);
-    await writeResults(pool, rows);
+    await writing;
+    writing = settleLater(
+      (async () => {
+        await ensureResultPartitions(pool, a, b);
+        await replaceResultsRange(pool, machine.row.id, a, b, rows);
+        onChunk?.(b, rows.length);
+      })(),
+    );
     points += rows.length;
-    a = b;
-    onChunk?.(b, rows.length);
   }
+  await writing;
   return points;
 }
 
-/** One incremental run over every machine (or the given ones). */
+/** One machine's share of an incremental run. */
+interface Planned {
+  readonly machine: PreparedMachine;
+  readonly from: number;
+  readonly to: number;
+}
+
+/**
+ * One incremental run over every machine (or the given ones). Machines one segment or less behind
+ * (the steady state of a minute-by-minute schedule) are read, computed and written together: one
+ * sample query, one results statement and one watermark statement per run; machines further
+ * behind catch up one by one in chunks.
+ */
 export async function runComputeOnce(
   pool: pg.Pool,
   options: ComputeJobOptions = {},
@@ -99,13 +145,19 @@ export async function runComputeOnce(
   const now = options.nowMs ?? Date.now();
   const horizon = computeHorizon(now, options.settleMs ?? 120_000, o);
   const rows = await loadMachines(pool, options.machineIds);
+  const marks = await readComputeWatermarks(pool, options.machineIds);
   let points = 0;
   let failed = 0;
   let recomputed = 0;
+  const fail = (id: number, error: unknown): void => {
+    failed++;
+    options.onMachineError?.(id, error);
+  };
+  const batch: Planned[] = [];
   for (const row of rows) {
     try {
       const machine = prepareMachine(row, options.fluids ?? defaultFluidResolver);
-      const mark = await readComputeWatermark(pool, row.id);
+      const mark = marks.get(row.id);
       let from = mark?.watermarkMs;
       if (mark === undefined || mark.configHash !== machine.configHash) {
         // New machine, or a unit / configuration change: (re)compute from the first sample.
@@ -121,11 +173,60 @@ export async function runComputeOnce(
           await writeComputeWatermark(pool, row.id, machine.configHash, from);
         continue;
       }
-      points += await computeMachineRange(pool, machine, from, to, o);
+      if (to - from <= o.segmentMs) {
+        batch.push({ machine, from, to });
+        continue;
+      }
+      points += await computeMachineRange(pool, machine, from, to, o, 86_400_000);
       await writeComputeWatermark(pool, row.id, machine.configHash, to);
     } catch (error) {
-      failed++;
-      options.onMachineError?.(row.id, error);
+      fail(row.id, error);
+    }
+  }
+  // The batch, grouped by range (usually one group: every machine one minute behind).
+  const groups = new Map<string, Planned[]>();
+  for (const p of batch) {
+    const key = `${p.from}:${p.to}`;
+    const g = groups.get(key);
+    if (g === undefined) groups.set(key, [p]);
+    else g.push(p);
+  }
+  for (const group of groups.values()) {
+    const { from, to } = group[0] as Planned;
+    const segA = Math.floor(from / o.segmentMs) * o.segmentMs;
+    const segB = Math.ceil(to / o.segmentMs) * o.segmentMs;
+    let samples: Awaited<ReturnType<typeof readSamples>>;
+    try {
+      samples = await readSamples(
+        pool,
+        group.flatMap((p) => allTagIds(p.machine)),
+        segA - o.lookbackPoints * o.stepMs - o.maxAgeMs,
+        segB + (o.spikeHalfWindow + 1) * o.stepMs,
+      );
+    } catch (error) {
+      for (const p of group) fail(p.machine.row.id, error);
+      continue;
+    }
+    const out: ResultRow[] = [];
+    const done: Planned[] = [];
+    for (const p of group) {
+      try {
+        for (const r of computeRange(p.machine, samples, from, to, o)) out.push(r);
+        done.push(p);
+      } catch (error) {
+        fail(p.machine.row.id, error);
+      }
+    }
+    try {
+      await ensureResultPartitions(pool, from, to);
+      await writeResults(pool, out);
+      await writeComputeWatermarks(
+        pool,
+        done.map((p) => ({ machineId: p.machine.row.id, configHash: p.machine.configHash, watermarkMs: to })),
+      );
+      points += out.length;
+    } catch (error) {
+      for (const p of done) fail(p.machine.row.id, error);
     }
   }
   return { machines: rows.length, points, failed, recomputed };
@@ -140,7 +241,7 @@ export interface BackfillOptions extends ComputeOptions {
   readonly fluids?: FluidResolver;
   /** Progress in grid points: done of total, after each chunk. */
   readonly onProgress?: (done: number, total: number) => void;
-  /** Samples read per chunk [ms]; default one day. */
+  /** Samples read per chunk [ms]; default seven days. */
   readonly chunkMs?: number;
 }
 

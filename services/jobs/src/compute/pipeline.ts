@@ -742,22 +742,21 @@ function evaluatePoint(
     };
   }
   const base = baseRow(pIn, tIn, pOut, tOut);
-  let flags: string[] | undefined;
+  const flags: string[] = [];
   // Gauge/absolute mix-up: a pressure about one atmosphere off its rated value (common practice, no source).
   const suspect = (role: string, p: number, rated: number | undefined): void => {
     if (rated === undefined) return;
     const off = Math.abs(Math.abs(p - rated) - 101_325);
-    if (off < GAUGE_SUSPECT_TOLERANCE * 101_325)
-      (flags ??= []).push(`${FAULT_PREFIX}gauge-absolute-suspect:${role}`);
+    if (off < GAUGE_SUSPECT_TOLERANCE * 101_325) flags.push(`${FAULT_PREFIX}gauge-absolute-suspect:${role}`);
   };
   suspect('inletPressure', pIn, machine.ratedInletPressure);
   suspect('outletPressure', pOut, machine.ratedOutletPressure);
   if (status === ST_STOPPED) {
-    (flags ??= []).push('not-running');
+    flags.push('not-running');
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
   }
   if (status === ST_REVERSED) {
-    (flags ??= []).push(
+    flags.push(
       `${FAULT_PREFIX}${machine.row.kind === 'turbine' ? 'outlet-above-inlet' : 'outlet-below-inlet'}`,
     );
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: true };
@@ -778,10 +777,10 @@ function evaluatePoint(
   } catch (error) {
     if (!(error instanceof ThermoError)) throw error;
     // Readings outside a property model's range: the point has no figures, and says why.
-    (flags ??= []).push(`model-error:${error.code}`);
+    flags.push(`model-error:${error.code}`);
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
   }
-  for (const f of r.flags) (flags ??= []).push(INSTRUMENT_FAULT_FLAGS.has(f) ? `${FAULT_PREFIX}${f}` : f);
+  for (const f of r.flags) flags.push(INSTRUMENT_FAULT_FLAGS.has(f) ? `${FAULT_PREFIX}${f}` : f);
   const power = r.power;
   const op =
     machine.operatingPoint === 'pressureRatio'
@@ -825,7 +824,7 @@ function evaluatePoint(
   }
   return {
     row,
-    flags: flags ?? NO_FLAGS,
+    flags,
     // A machine at rest or without head has no meaningful efficiency (not an instrument fault).
     modelValid: r.valid && r.isentropicEfficiency !== undefined && !noEfficiency,
     secondLaw,

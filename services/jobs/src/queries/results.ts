@@ -3,8 +3,11 @@
  * through unnest arrays (one statement per batch; works the same on every PostgreSQL).
  * Written here until packages/store exports its own writer.
  */
+import { once } from 'node:events';
 import type pg from 'pg';
+import { from as copyFrom } from 'pg-copy-streams';
 import type { ResultRow } from '../compute/pipeline.js';
+import { JobsError } from '../errors.js';
 import type { Queryable } from './machines.js';
 
 const NUM_COLUMNS = [
@@ -100,6 +103,189 @@ export async function writeResults(db: Queryable, rows: readonly ResultRow[]): P
   }
 }
 
+/** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
+const PG_EPOCH_MS = 946_684_800_000;
+/** Object id of the text type (pg_type), the element type of the flags array. */
+const TEXT_OID = 25;
+const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1');
+const FIELDS = 2 + NUM_COLUMNS.length + 4;
+
+/**
+ * Rows in PostgreSQL's binary COPY format (PostgreSQL documentation, COPY, "Binary Format"):
+ * per tuple an int16 field count, then per field an int32 length (-1 = NULL) and the value in the
+ * type's binary send form (int4; timestamptz as int8 microseconds since 2000-01-01; float8; bool
+ * as one byte; text[] as ndim, has-null, element type oid, then size and lower bound per
+ * dimension and length-prefixed UTF-8 elements), all big-endian.
+ */
+class CopyEncoder {
+  private buf = Buffer.allocUnsafe(1 << 20);
+  private at = 0;
+
+  private need(n: number): void {
+    if (this.at + n <= this.buf.length) return;
+    const next = Buffer.allocUnsafe(Math.max(this.buf.length * 2, this.at + n));
+    this.buf.copy(next, 0, 0, this.at);
+    this.buf = next;
+  }
+
+  header(): void {
+    this.need(19);
+    COPY_SIGNATURE.copy(this.buf, this.at);
+    this.at += COPY_SIGNATURE.length;
+    this.buf.writeInt32BE(0, this.at); // flags: no OIDs
+    this.buf.writeInt32BE(0, this.at + 4); // header extension length
+    this.at += 8;
+  }
+
+  row(r: ResultRow, computedAtUs: number, flags: readonly Buffer[]): void {
+    let flagBytes = 0;
+    for (const f of flags) flagBytes += 4 + f.length;
+    this.need(2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + 4 + 20 + flagBytes + 5 + 12);
+    const b = this.buf;
+    let o = this.at;
+    b.writeInt16BE(FIELDS, o);
+    o += 2;
+    b.writeInt32BE(4, o);
+    b.writeInt32BE(r.machineId, o + 4);
+    o += 8;
+    o = this.timestamp(b, o, (r.time - PG_EPOCH_MS) * 1000);
+    for (const [, key] of NUM_COLUMNS) {
+      const v = r[key] as number | null;
+      if (v === null || !Number.isFinite(v)) {
+        b.writeInt32BE(-1, o);
+        o += 4;
+      } else {
+        b.writeInt32BE(8, o);
+        b.writeDoubleBE(v, o + 4);
+        o += 12;
+      }
+    }
+    b.writeInt32BE(1, o);
+    b[o + 4] = r.steady ? 1 : 0;
+    o += 5;
+    const ndim = flags.length === 0 ? 0 : 1;
+    b.writeInt32BE(12 + ndim * 8 + flagBytes, o);
+    b.writeInt32BE(ndim, o + 4);
+    b.writeInt32BE(0, o + 8);
+    b.writeInt32BE(TEXT_OID, o + 12);
+    o += 16;
+    if (ndim === 1) {
+      b.writeInt32BE(flags.length, o);
+      b.writeInt32BE(1, o + 4);
+      o += 8;
+      for (const f of flags) {
+        b.writeInt32BE(f.length, o);
+        f.copy(b, o + 4);
+        o += 4 + f.length;
+      }
+    }
+    b.writeInt32BE(1, o);
+    b[o + 4] = r.valid ? 1 : 0;
+    o += 5;
+    o = this.timestamp(b, o, computedAtUs);
+    this.at = o;
+  }
+
+  private timestamp(b: Buffer, o: number, us: number): number {
+    const v = Math.round(us);
+    b.writeInt32BE(8, o);
+    // int8 as two 32-bit halves (exact below 2^53).
+    const hi = Math.floor(v / 4_294_967_296);
+    b.writeInt32BE(hi, o + 4);
+    b.writeUInt32BE(v - hi * 4_294_967_296, o + 8);
+    return o + 12;
+  }
+
+  trailer(): void {
+    this.need(2);
+    this.buf.writeInt16BE(-1, this.at);
+    this.at += 2;
+  }
+
+  get size(): number {
+    return this.at;
+  }
+
+  take(): Buffer {
+    const out = Buffer.from(this.buf.subarray(0, this.at));
+    this.at = 0;
+    return out;
+  }
+}
+
+/**
+ * Replace one machine's results in [fromMs, toMs) by `rows` (all of that machine and range): a
+ * DELETE of the range and a binary COPY in one transaction, the fast path of a backfill. When a
+ * concurrent writer got there first (unique violation) the rows go through the upsert instead.
+ */
+export async function replaceResultsRange(
+  pool: pg.Pool,
+  machineId: number,
+  fromMs: number,
+  toMs: number,
+  rows: readonly ResultRow[],
+): Promise<void> {
+  const client = await pool.connect();
+  let fallback = false;
+  try {
+    await client.query('BEGIN');
+    await client.query(
+      `DELETE FROM results WHERE machine_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)`,
+      [machineId, fromMs, toMs],
+    );
+    const cols = NUM_COLUMNS.map(([c]) => c).join(', ');
+    const stream = client.query(
+      copyFrom(
+        `COPY results (machine_id, time, ${cols}, steady, flags, valid, computed_at) FROM STDIN (FORMAT binary)`,
+      ),
+    );
+    const done = new Promise<void>((resolve, reject) => {
+      stream.on('finish', resolve);
+      stream.on('error', reject);
+    });
+    const enc = new CopyEncoder();
+    enc.header();
+    const nowUs = (Date.now() - PG_EPOCH_MS) * 1000;
+    const flagCache = new Map<string, Buffer>();
+    for (const r of rows) {
+      if (r.machineId !== machineId || !(r.time >= fromMs && r.time < toMs))
+        throw new JobsError(
+          'JOBS_BAD_RANGE',
+          'a result row lies outside the machine and range being replaced',
+          {
+            machineId,
+            fromMs,
+            toMs,
+            rowMachineId: r.machineId,
+            rowTime: r.time,
+          },
+        );
+      const flags = r.flags.map((f) => {
+        let b = flagCache.get(f);
+        if (b === undefined) {
+          b = Buffer.from(f, 'utf8');
+          flagCache.set(f, b);
+        }
+        return b;
+      });
+      enc.row(r, nowUs, flags);
+      if (enc.size > 1 << 20 && !stream.write(enc.take())) await once(stream, 'drain');
+    }
+    enc.trailer();
+    stream.end(enc.take());
+    await done;
+    await client.query('COMMIT');
+  } catch (error) {
+    await client.query('ROLLBACK').catch(() => {});
+    // 23505 unique_violation: another writer committed rows of this range meanwhile.
+    if ((error as { code?: unknown }).code === '23505') fallback = true;
+    else throw error;
+  } finally {
+    client.release();
+  }
+  if (fallback) await writeResults(pool, rows);
+}
+
 /** Result rows of a machine in [from, to) as ResultRow (for comparisons, the alert job and tests). */
 export async function readResults(
   db: Queryable,
@@ -173,5 +359,43 @@ export async function writeWatermark(db: Queryable, job: string, key: string, ms
     `INSERT INTO job_watermarks (job, key, watermark, updated_at) VALUES ($1, $2, to_timestamp($3::float8 / 1000), now())
      ON CONFLICT (job, key) DO UPDATE SET watermark = EXCLUDED.watermark, updated_at = now()`,
     [job, key, ms],
+  );
+}
+
+/** Compute watermarks of every machine (or the given ones), in one query. */
+export async function readComputeWatermarks(
+  db: Queryable,
+  machineIds?: readonly number[],
+): Promise<Map<number, ComputeWatermark>> {
+  const res = await db.query<{ key: string; w: number }>(
+    `SELECT key, (extract(epoch FROM watermark) * 1000)::float8 AS w FROM job_watermarks
+      WHERE job = 'compute' AND ($1::text[] IS NULL OR split_part(key, '#', 1) = ANY($1::text[]))`,
+    [machineIds === undefined ? null : machineIds.map(String)],
+  );
+  const out = new Map<number, ComputeWatermark>();
+  for (const row of res.rows) {
+    const [id, hash] = row.key.split('#');
+    const machineId = Number(id);
+    if (Number.isInteger(machineId)) out.set(machineId, { watermarkMs: row.w, configHash: hash ?? '' });
+  }
+  return out;
+}
+
+/** Several compute watermarks in two statements (see writeComputeWatermark). */
+export async function writeComputeWatermarks(
+  db: Queryable,
+  marks: readonly { readonly machineId: number; readonly configHash: string; readonly watermarkMs: number }[],
+): Promise<void> {
+  if (marks.length === 0) return;
+  const keys = marks.map((m) => `${m.machineId}#${m.configHash}`);
+  await db.query(
+    `DELETE FROM job_watermarks WHERE job = 'compute' AND split_part(key, '#', 1) = ANY($1::text[]) AND NOT (key = ANY($2::text[]))`,
+    [marks.map((m) => String(m.machineId)), keys],
+  );
+  await db.query(
+    `INSERT INTO job_watermarks (job, key, watermark, updated_at)
+     SELECT 'compute', u.k, to_timestamp(u.w / 1000), now() FROM unnest($1::text[], $2::float8[]) AS u(k, w)
+     ON CONFLICT (job, key) DO UPDATE SET watermark = EXCLUDED.watermark, updated_at = now()`,
+    [keys, marks.map((m) => m.watermarkMs)],
   );
 }

@@ -1,9 +1,14 @@
 import type { RawSeries } from '../compute/pipeline.js';
 import type { Queryable } from './machines.js';
 
+/** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
+const PG_EPOCH_MS = 946_684_800_000;
+
 /**
- * Raw samples of the given tags with from <= time < to, columnar per tag. Times come back as
- * epoch milliseconds computed in SQL, so no Date objects are made per row.
+ * Raw samples of the given tags with from <= time < to, columnar per tag. Each tag's samples come
+ * back as one bytea of fixed 18-byte records (timestamptz_send: int8 microseconds since
+ * 2000-01-01; float8send: the value; int2send: the quality, all big-endian), so the driver parses
+ * one hex string per tag instead of a text field per sample and no Date objects are made.
  */
 export async function readSamples(
   db: Queryable,
@@ -11,30 +16,34 @@ export async function readSamples(
   fromMs: number,
   toMs: number,
 ): Promise<Map<number, RawSeries>> {
-  const res = await db.query<{ tag_id: number[] | null; t: number[]; v: number[]; q: number[] }>(
-    `SELECT array_agg(tag_id ORDER BY tag_id, time) AS tag_id,
-                  array_agg((extract(epoch FROM time) * 1000)::float8 ORDER BY tag_id, time) AS t,
-                  array_agg(value ORDER BY tag_id, time) AS v,
-                  array_agg(quality::int ORDER BY tag_id, time) AS q
-             FROM samples
-            WHERE tag_id = ANY($1::int[]) AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)`,
+  const res = await db.query<{ tag_id: number; b: Buffer }>(
+    `SELECT tag_id, string_agg(timestamptz_send(time) || float8send(value) || int2send(quality), ''::bytea ORDER BY time) AS b
+       FROM samples
+      WHERE tag_id = ANY($1::int[]) AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
+      GROUP BY tag_id`,
     [[...tagIds], fromMs, toMs],
   );
   const out = new Map<number, RawSeries>();
-  const row = res.rows[0];
-  if (row === undefined || row.tag_id === null) return out;
-  const ids = row.tag_id;
-  let start = 0;
-  for (let i = 1; i <= ids.length; i++) {
-    if (i < ids.length && ids[i] === ids[start]) continue;
-    out.set(ids[start] as number, {
-      t: Float64Array.from(row.t.slice(start, i)),
-      value: Float64Array.from(row.v.slice(start, i)),
-      quality: Uint8Array.from(row.q.slice(start, i)),
-    });
-    start = i;
-  }
+  for (const row of res.rows) out.set(row.tag_id, decodeSamples(row.b));
   return out;
+}
+
+/** Decode the 18-byte records of readSamples. */
+export function decodeSamples(b: Buffer): RawSeries {
+  const n = Math.floor(b.length / 18);
+  const t = new Float64Array(n);
+  const value = new Float64Array(n);
+  const quality = new Int16Array(n);
+  const view = new DataView(b.buffer, b.byteOffset, b.byteLength);
+  for (let i = 0, o = 0; i < n; i++, o += 18) {
+    // int8 as two 32-bit halves: exact below 2^53 us (year 2255).
+    const us = view.getInt32(o) * 4_294_967_296 + view.getUint32(o + 4);
+    t[i] = us / 1000 + PG_EPOCH_MS;
+    value[i] = view.getFloat64(o + 8);
+    // As stored; the pipeline reads its OPC DA class (alignQuality).
+    quality[i] = view.getInt16(o + 16);
+  }
+  return { t, value, quality };
 }
 
 /** Earliest sample time [ms] of the given tags, or undefined when they have none. */
