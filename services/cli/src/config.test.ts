@@ -41,4 +41,22 @@ describe('loadConfig', () => {
   it('treats an empty variable as unset', () => {
     expect(loadConfig({ DATABASE_URL: '' }).databaseUrl).toBeUndefined();
   });
+
+  it('takes e-mail settings only all together', () => {
+    expect(() => loadConfig({ ISENTROPE_SMTP_URL: 'smtp://mail.example.org' })).toThrow(
+      /ISENTROPE_MAIL_FROM=\(unset\): e-mail alerts need/,
+    );
+    const config = loadConfig({
+      ISENTROPE_SMTP_URL: 'smtp://mail.example.org',
+      ISENTROPE_MAIL_FROM: 'isentrope@example.org',
+      ISENTROPE_MAIL_TO: 'reliability@example.org',
+    });
+    expect(config.smtp?.to).toBe('reliability@example.org');
+  });
+
+  it('refuses a webhook URL that is not a URL', () => {
+    expect(() => loadConfig({ ISENTROPE_WEBHOOK_URL: 'not a url' })).toThrow(
+      /ISENTROPE_WEBHOOK_URL="not a url"/,
+    );
+  });
 });

@@ -71,7 +71,21 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
   }
 
   if (config.runJobs) {
-    const jobs = await startJobs({ pool: db.pool, databaseUrl: db.url, logger, config: {} });
+    const jobs = await startJobs({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger,
+      config: {
+        ...(config.webhook === undefined
+          ? {}
+          : {
+              webhookUrl: config.webhook.url,
+              ...(config.webhook.secret === undefined ? {} : { webhookSecret: config.webhook.secret }),
+            }),
+        ...(config.smtp === undefined ? {} : { smtp: config.smtp }),
+        monthly: config.energyPrice === undefined ? {} : { price: config.energyPrice },
+      },
+    });
     lifecycle.add('jobs', () => jobs.stop());
   }
 
