@@ -74,7 +74,20 @@ const u: MachineUncertainties = {
 emit(
   'thermo.machines.turbine_steam_gum',
   rate((i) => {
-    const r = evaluateMachineWithUncertainty({ ...steamCase(i), shaftPower: 20e6 }, u);
+    // Built field by field: a spread copy ({ ...steamCase(i), shaftPower }) as the input measured
+    // about 2.5 times slower here (V8 object shapes), though every field is copied before use.
+    const c = steamCase(i);
+    const r = evaluateMachineWithUncertainty(
+      {
+        kind: c.kind,
+        fluid: c.fluid,
+        inlet: c.inlet,
+        outlet: c.outlet,
+        massFlow: c.massFlow,
+        shaftPower: 20e6,
+      },
+      u,
+    );
     return r.uncertainty.isentropicEfficiency ?? 0;
   }),
   'cases/s',

@@ -15,8 +15,8 @@ import type { MachineFlag, MachineInput, MachineResult } from './types.js';
  * Gas compressor: eta_s = (h_out,s - h_in)/(h_out - h_in), polytropic head and efficiency by the
  * Schultz method (ASME PTC 10), power = mass flow x (h_out - h_in).
  */
-export function evaluateCompressor(input: MachineInput): MachineResult {
-  checkInput(input);
+export function evaluateCompressor(given: MachineInput): MachineResult {
+  const input = checkInput(given);
   const { fluid, inlet: i, outlet: o } = input;
   if (o.p < i.p) {
     throw new BadInputError(

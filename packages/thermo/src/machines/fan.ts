@@ -36,8 +36,8 @@ export function compressibilityCoefficient(
  * volume exponent of the fluid model over the process, ln(p2/p1)/ln(v1/v2s) (1.4 for ideal air
  * at constant heat capacity). Without shaft power, P_r in z comes from m (h2 - h1).
  */
-export function evaluateFan(input: MachineInput): MachineResult {
-  checkInput(input);
+export function evaluateFan(given: MachineInput): MachineResult {
+  const input = checkInput(given);
   const { fluid, inlet: i, outlet: o } = input;
   if (o.p < i.p) {
     throw new BadInputError('outlet.p', `fan outlet pressure ${o.p} Pa is below inlet pressure ${i.p} Pa`);

@@ -21,8 +21,8 @@ export const STANDARD_GRAVITY = 9.80665;
  * method gives eta = w_s / (h2 - h1), with h2 - h1 from the measured temperature rise and
  * w_s = h(p2, s1) - h1 (equal to v dp for an incompressible liquid).
  */
-export function evaluatePump(input: MachineInput): MachineResult {
-  checkInput(input);
+export function evaluatePump(given: MachineInput): MachineResult {
+  const input = checkInput(given);
   const { fluid, inlet: i, outlet: o } = input;
   if (o.p < i.p) {
     throw new BadInputError('outlet.p', `pump outlet pressure ${o.p} Pa is below inlet pressure ${i.p} Pa`);

@@ -19,8 +19,8 @@ import type { MachineFlag, MachineInput, MachineResult } from './types.js';
  * and gland losses neglected, which makes the efficiency slightly low), or the outlet is reported
  * undetermined. Never a guess.
  */
-export function evaluateTurbine(input: MachineInput): MachineResult {
-  checkInput(input);
+export function evaluateTurbine(given: MachineInput): MachineResult {
+  const input = checkInput(given);
   const { fluid, inlet: i, outlet: o } = input;
   if (o.p > i.p) {
     throw new BadInputError(

@@ -1,6 +1,6 @@
 import { BadInputError } from '../errors.js';
 import type { Fluid, FluidState } from '../fluid.js';
-import { DEFAULT_ENTROPY_TOLERANCE } from '../machines/common.js';
+import { checkInput, DEFAULT_ENTROPY_TOLERANCE } from '../machines/common.js';
 import { evaluateMachine } from '../machines/index.js';
 import {
   INSTRUMENT_FAULT_FLAGS,
@@ -163,7 +163,9 @@ interface Prepared {
   readonly baseResult: () => MachineResult;
 }
 
-function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prepared {
+function prepare(given: MachineInput, uncertainties: MachineUncertainties): Prepared {
+  // Checked once, and copied to the one fixed shape the machine functions expect (see checkInput).
+  const input = checkInput(given);
   const keys: UncertainInput[] = [];
   const xs: number[] = [];
   const us: number[] = [];
@@ -190,7 +192,22 @@ function prepare(input: MachineInput, uncertainties: MachineUncertainties): Prep
   // One mutable input, rewritten per evaluation: the machine functions only read it.
   const inlet = { p: input.inlet.p, T: input.inlet.T };
   const outlet = { p: input.outlet.p, T: input.outlet.T };
-  const work: Mutable<MachineInput> = { ...input, fluid, inlet, outlet };
+  // Every field spelled out, in one order, from the start: a spread copy, or a field added later,
+  // gives objects of varying shape and slowed every machine call about 2.5-fold (measured).
+  const work: Mutable<MachineInput> = {
+    kind: input.kind,
+    fluid,
+    inlet,
+    outlet,
+    massFlow: input.massFlow,
+    volumeFlow: input.volumeFlow,
+    shaftPower: input.shaftPower,
+    electricalPower: input.electricalPower,
+    driverEfficiency: input.driverEfficiency,
+    wetMargin: input.wetMargin,
+    entropyTolerance: input.entropyTolerance,
+    outletFrom: input.outletFrom,
+  };
   const out = new Float64Array(UNCERTAIN_OUTPUTS.length);
   let first: MachineResult | undefined;
   const model = (x: Float64Array): Float64Array => {
