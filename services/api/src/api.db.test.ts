@@ -228,6 +228,90 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
     expect(bad.json<{ code: string }>().code).toBe('API_BAD_CURSOR');
   });
 
+  it('samples: raw pages and a downsampled tag trend with min, mean and max per bucket', async () => {
+    const tag = plant.tagIds[0]!;
+    const ts = Array.from({ length: 120 }, (_, i) => t0 + i * 60_000);
+    const { ensurePartitions } = await import('@isentrope/store');
+    await ensurePartitions(db.pool, 'samples', ts[0]!, ts.at(-1)!);
+    // Values 0..119 (invented): bucket k of 30 minutes holds 30k..30k+29, mean 30k + 14.5.
+    await db.pool.query(
+      `INSERT INTO samples (tag_id, time, value) SELECT $1, to_timestamp(t / 1000.0), v FROM unnest($2::float8[], $3::float8[]) AS x(t, v)`,
+      [tag, ts, ts.map((_, i) => i)],
+    );
+    const range = `from=${new Date(t0).toISOString()}&to=${new Date(t0 + 2 * HOUR).toISOString()}`;
+    const tr = await app.inject({
+      method: 'GET',
+      url: `/api/tags/${tag}/trend?${range}&buckets=4`,
+      headers: auth('viewer'),
+    });
+    const body = tr.json<{
+      source: string;
+      buckets: { min: number; max: number; mean: number; count: number }[];
+    }>();
+    expect(body.source).toBe('samples');
+    expect(body.buckets).toEqual(
+      [0, 1, 2, 3].map((k) => ({
+        t: t0 + k * 30 * 60_000,
+        min: 30 * k,
+        max: 30 * k + 29,
+        mean: 30 * k + 14.5,
+        count: 30,
+      })),
+    );
+    const page1 = await app.inject({
+      method: 'GET',
+      url: `/api/tags/${tag}/samples?${range}&limit=100`,
+      headers: auth('viewer'),
+    });
+    const p1 = page1.json<{ items: { value: number }[]; next: string }>();
+    expect(p1.items.length).toBe(100);
+    const page2 = await app.inject({ method: 'GET', url: p1.next, headers: auth('viewer') });
+    expect(page2.json<{ items: { value: number }[]; next: string | null }>()).toMatchObject({ next: null });
+    expect(page2.json<{ items: { value: number }[] }>().items.map((x) => x.value)).toEqual(
+      Array.from({ length: 20 }, (_, i) => 100 + i),
+    );
+  });
+
+  it('drift: daily drift and the Theil-Sen rate with a forecast to the alarm band', async () => {
+    // A fresh compressor: 30 days, drift falling 0.1 point a day from -0.5 (invented);
+    // Theil-Sen of collinear points is their slope (Sen 1968): -0.1 x 30.44 = -3.044 points/month.
+    const m = (
+      await db.pool.query<{ id: number }>(
+        `INSERT INTO machines (site_id, slug, name, kind, fluid, spec) VALUES ($1, 'ac7', 'AC7 (invented)', 'compressor', '"air"', '{}') RETURNING id`,
+        [plant.siteId],
+      )
+    ).rows[0]!.id;
+    await setBaseline(db.pool, m, [0.84], 0, 2);
+    await setBands(db.pool, m, 2, 4);
+    const d0 = Date.UTC(2026, 0, 1);
+    await insertResults(
+      db.pool,
+      m,
+      Array.from({ length: 30 }, (_, i) => ({
+        t: d0 + i * 86_400_000 + HOUR,
+        efficiency: 0.84 - 0.005 - 0.001 * i,
+        operatingPoint: 1,
+      })),
+    );
+    const r = await app.inject({
+      method: 'GET',
+      url: `/api/machines/${m}/drift?from=${new Date(d0).toISOString()}&to=${new Date(d0 + 30 * 86_400_000).toISOString()}`,
+      headers: auth('viewer'),
+    });
+    const body = r.json<{
+      days: unknown[];
+      ratePtsPerMonth: number;
+      alarmPts: number;
+      forecast: { status: string; at: string };
+    }>();
+    expect(body.days).toHaveLength(30);
+    expect(body.alarmPts).toBe(-4);
+    expect(body.ratePtsPerMonth).toBeCloseTo(-3.044, 6);
+    expect(body.forecast.status).toBe('forecast');
+    // Last day's drift -3.4 at day 29 (mid-day); -4 is reached 6 days later.
+    expect(Date.parse(body.forecast.at)).toBeCloseTo(d0 + 29.5 * 86_400_000 + 6 * 86_400_000, -4);
+  });
+
   it('validation errors list the field', async () => {
     const r = await app.inject({ method: 'GET', url: '/api/machines/abc', headers: auth('viewer') });
     expect(r.statusCode).toBe(400);

@@ -100,3 +100,27 @@ describe('OpenAPI document', () => {
     expect(r.headers['content-type']).toMatch(/text\/html/);
   });
 });
+
+describe('rate limit', () => {
+  it('answers 429 with API_RATE_LIMITED and Retry-After once a client passes the limit', async () => {
+    const pool = new pg.Pool({
+      connectionString: 'postgres://nobody@127.0.0.1:1/none',
+      connectionTimeoutMillis: 200,
+    });
+    pool.on('error', () => {});
+    const app = await buildTestApp(pool, { rateLimit: { max: 3, timeWindowMs: 60_000 } });
+    try {
+      const codes: number[] = [];
+      for (let i = 0; i < 4; i++)
+        codes.push((await app.inject({ method: 'GET', url: '/api/openapi.json' })).statusCode);
+      expect(codes).toEqual([200, 200, 200, 429]);
+      const r = await app.inject({ method: 'GET', url: '/api/openapi.json' });
+      expect(r.headers['content-type']).toMatch(/^application\/problem\+json/);
+      expect(r.json<{ code: string }>().code).toBe('API_RATE_LIMITED');
+      expect(Number(r.headers['retry-after'])).toBeGreaterThan(0);
+    } finally {
+      await app.close();
+      await pool.end();
+    }
+  });
+});

@@ -85,7 +85,16 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
     },
     async (request, reply) => {
       const secret = request.cookies[SESSION_COOKIE];
-      if (secret !== undefined && secret !== '') await endSession(ctx.pool, secret);
+      if (secret !== undefined && secret !== '') {
+        await endSession(ctx.pool, secret);
+        if (request.principal?.kind === 'user')
+          await appendAudit(ctx.pool, {
+            actor: request.principal,
+            action: 'session.logout',
+            entity: 'user',
+            entityId: request.principal.userId,
+          });
+      }
       reply.clearCookie(SESSION_COOKIE, { path: '/' });
       return reply.code(204).send(null);
     },
