@@ -7,7 +7,7 @@ import type { PlantFile, Source } from '@isentrope/plant';
 import type pg from 'pg';
 import type { Logger } from 'pino';
 import { DiskBuffer } from './buffer.js';
-import type { CsvFormatInput } from './csv/format.js';
+import { type CsvFormatInput, csvFormatSchema } from './csv/format.js';
 import { CsvWatcher } from './csv/watch.js';
 import { IngestError } from './errors.js';
 import { CommittedSink, Forwarder, guardPool } from './forward.js';
@@ -97,7 +97,22 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
 
   for (const source of sources) {
     if (source.kind === 'csv') {
-      const extras = options.csv?.[source.id] ?? {};
+      const { pollMs, ...extras } = options.csv?.[source.id] ?? {};
+      // Checked here, so a bad option stops the start instead of failing every file.
+      const format = csvFormatSchema.safeParse({
+        layout: source.layout,
+        timeZone: source.timeZone ?? siteZone,
+        ...extras,
+      });
+      if (!format.success) {
+        throw new IngestError(
+          'INGEST_BAD_OPTIONS',
+          `CSV source ${source.id}: ${format.error.issues.map((i) => `${i.path.join('.')}: ${i.message}`).join('; ')}`,
+          {
+            source: source.id,
+          },
+        );
+      }
       const metrics = new SourceMetrics(source.id, 'csv', clock);
       all.push(metrics);
       const watcher = new CsvWatcher({
@@ -106,10 +121,10 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
         tags: liveTags,
         folder: source.folder,
         pattern: source.pattern,
-        format: { layout: source.layout, timeZone: source.timeZone ?? siteZone, ...extras },
+        format: format.data,
         metrics,
         logger: log.child({ source: source.id }),
-        ...(extras.pollMs === undefined ? {} : { pollMs: extras.pollMs }),
+        ...(pollMs === undefined ? {} : { pollMs }),
       });
       watcher.start();
       stops.push(() => watcher.stop());

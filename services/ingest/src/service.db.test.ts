@@ -1,0 +1,143 @@
+import { appendFile, mkdir, mkdtemp, readdir, rename, rm, writeFile } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { parsePlantFile } from '@isentrope/plant';
+import Fastify from 'fastify';
+import { pino } from 'pino';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
+import { CsvWatcher } from './csv/watch.js';
+import { httpPushRoutes, sha256Hex } from './http.js';
+import { SourceMetrics } from './metrics.js';
+import { startIngest } from './service.js';
+import { loadTagLookup } from './tags.js';
+import { seedTags } from './testing/seed.js';
+
+const logger = pino({ level: 'silent' });
+let db: TestDatabase;
+let dir: string;
+
+beforeAll(async () => {
+  db = await createTestDatabase();
+  await seedTags(db.pool, undefined, 'demo');
+  dir = await mkdtemp(join(tmpdir(), 'ingest-service-'));
+});
+afterAll(async () => {
+  await db?.drop();
+  if (dir !== undefined) await rm(dir, { recursive: true, force: true });
+});
+
+const count = async () =>
+  (await db.pool.query<{ n: number }>('SELECT count(*)::int AS n FROM samples')).rows[0]!.n;
+
+// Counts below are by construction of the invented files (common practice, no source).
+describe('CSV drop folder', () => {
+  it('reads a file only once its size held still over two polls, and never a .part file', async () => {
+    const folder = join(dir, 'drop-a');
+    await mkdir(folder);
+    const metrics = new SourceMetrics('drop-a', 'csv');
+    const watcher = new CsvWatcher({
+      pool: db.pool,
+      source: 'drop-a',
+      tags: await loadTagLookup(db.pool, 'demo'),
+      folder,
+      metrics,
+      logger,
+    });
+    const file = join(folder, 'a.csv');
+    await writeFile(file, 'time,ST1.PI-100\n2026-02-01T00:00:00Z,1\n');
+    await writeFile(join(folder, 'b.csv.part'), 'time,ST1.PI-100\n2026-02-01T00:00:05Z,9\n');
+    await watcher.poll(); // first sight: size noted
+    await appendFile(file, '2026-02-01T00:00:01Z,2\n'); // still being written
+    await watcher.poll(); // size changed: not read
+    expect(await count()).toBe(0);
+    await watcher.poll(); // held still: read
+    expect(await count()).toBe(2);
+    expect(await readdir(folder)).toEqual(expect.arrayContaining(['b.csv.part', 'processed']));
+    await rename(join(folder, 'b.csv.part'), join(folder, 'b.csv'));
+    await watcher.poll();
+    await watcher.poll();
+    expect(await count()).toBe(3);
+    const snap = metrics.snapshot();
+    expect(snap.filesProcessed).toBe(2);
+    expect(snap.samplesTotal).toBe(3);
+  });
+});
+
+describe('startIngest', () => {
+  it('runs the plant file CSV source, reports health and metrics, and serves HTTP push with its sink', async () => {
+    const folder = join(dir, 'drop-b');
+    await mkdir(folder);
+    const plant = parsePlantFile(
+      JSON.stringify({
+        version: 1,
+        site: { id: 'demo', name: 'Demo (invented)', timeZone: 'Europe/Berlin' },
+        tags: [
+          { name: 'ST1.PI-100', role: 'other', unit: 'bara' },
+          { name: 'ST1.TI-100', role: 'other', unit: 'degC' },
+        ],
+        sources: [{ kind: 'csv', id: 'drop-b', folder, layout: 'long' }],
+      }),
+      'plant.json',
+    );
+    const service = await startIngest({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger,
+      dataDir: join(dir, 'data'),
+      plant,
+      csv: { 'drop-b': { pollMs: 100, delimiter: ';', decimalComma: true } },
+    });
+    try {
+      const before = await count();
+      // Local time of the site's zone: 10:00 CET is 09:00Z (Europe/Berlin, winter).
+      await writeFile(
+        join(folder, 'long.csv'),
+        'tag;time;value\nST1.TI-100;2026-02-03 10:00:00;510,5\nST1.TI-100;2026-02-03 10:01:00;511\n',
+      );
+      for (let i = 0; i < 100 && (await count()) < before + 2; i++)
+        await new Promise((r) => setTimeout(r, 100));
+      const r = await db.pool.query<{ time: Date }>(
+        `SELECT s.time FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.TI-100' ORDER BY s.time`,
+      );
+      expect(
+        r.rows.map((x) => x.time.toISOString()),
+        JSON.stringify(service.metrics()),
+      ).toEqual(['2026-02-03T09:00:00.000Z', '2026-02-03T09:01:00.000Z']);
+      const health = service.health();
+      expect(health.status).toBe('ok');
+      expect(health.sources).toEqual([
+        expect.objectContaining({ source: 'drop-b', kind: 'csv', state: 'running' }),
+      ]);
+      const m = service.metrics().find((s) => s.source === 'drop-b');
+      expect(m).toMatchObject({ samplesTotal: 2, filesProcessed: 1 });
+      expect(service.renderMetrics()).toContain(
+        'isentrope_ingest_files_processed_total{source="drop-b",kind="csv"} 1',
+      );
+
+      const app = Fastify({ logger: false });
+      await app.register(httpPushRoutes, service.httpPushOptions(sha256Hex('t0ken')));
+      const res = await app.inject({
+        method: 'POST',
+        url: '/ingest/samples',
+        headers: { authorization: 'Bearer t0ken' },
+        payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
+      });
+      expect(res.json()).toEqual({ accepted: 1, rejected: [] });
+      const again = await app.inject({
+        method: 'POST',
+        url: '/ingest/samples',
+        headers: { authorization: 'Bearer t0ken' },
+        payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
+      });
+      expect(again.statusCode).toBe(200);
+      const pushed = await db.pool.query<{ n: number }>(
+        `SELECT count(*)::int AS n FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.PI-100' AND s.time = '2026-02-03T09:00:00Z'`,
+      );
+      expect(pushed.rows[0]!.n).toBe(1); // a re-sent batch is stored once
+      await app.close();
+    } finally {
+      await service.stop();
+    }
+  });
+});
