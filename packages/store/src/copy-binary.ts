@@ -101,12 +101,14 @@ export function encodeSamples(rows: readonly SampleRow[]): Buffer {
   return buf;
 }
 
-/** Bytes of one rollup tuple: count(2) + 2 x int4(8) + 2 x time(12) + 4 x float8(12) + bool(5). */
-const ROLLUP_BYTES = 2 + 2 * 8 + 2 * 12 + 4 * 12 + 5;
+/** Bytes of one rollup tuple: count(2) + 2 x int4(8) + 2 x time(12) + 4 x float8(12) [+ bool(5)]. */
+const ROLLUP_BYTES = 2 + 2 * 8 + 2 * 12 + 4 * 12;
+const HOURLY_BYTES = 5;
 
 /**
  * Binary COPY data for (tag_id int4, bucket timestamptz, min, max, sum float8, count int4,
- * last_value float8, last_time timestamptz, hourly bool), written row by row without an
+ * last_value float8, last_time timestamptz) as in samples_1m and samples_1h, followed by
+ * (hourly bool) for the staging table when `withHourly`; written row by row without an
  * object per row (a batch of 1-minute samples has as many minute buckets as rows).
  */
 export class RollupEncoder {
@@ -115,8 +117,12 @@ export class RollupEncoder {
   private offset: number;
   private count = 0;
   /** `capacity`: the most rows that will be added. */
-  constructor(capacity: number) {
-    this.buf = Buffer.allocUnsafe(HEADER_BYTES + capacity * ROLLUP_BYTES + TRAILER_BYTES);
+  constructor(
+    capacity: number,
+    private readonly withHourly = true,
+  ) {
+    const row = ROLLUP_BYTES + (withHourly ? HOURLY_BYTES : 0);
+    this.buf = Buffer.allocUnsafe(HEADER_BYTES + capacity * row + TRAILER_BYTES);
     this.dv = view(this.buf);
     this.offset = header(this.buf);
   }
@@ -140,7 +146,7 @@ export class RollupEncoder {
     checkInt(count, INT4, 'count');
     const dv = this.dv;
     const o = this.offset;
-    dv.setInt16(o, 9);
+    dv.setInt16(o, this.withHourly ? 9 : 8);
     dv.setInt32(o + 2, 4);
     dv.setInt32(o + 6, tagId);
     dv.setInt32(o + 10, 8);
@@ -157,9 +163,13 @@ export class RollupEncoder {
     dv.setFloat64(o + 70, lastValue);
     dv.setInt32(o + 78, 8);
     writeTime(dv, o + 82, lastTime);
-    dv.setInt32(o + 90, 1);
-    dv.setUint8(o + 94, hourly ? 1 : 0);
-    this.offset = o + ROLLUP_BYTES;
+    if (this.withHourly) {
+      dv.setInt32(o + 90, 1);
+      dv.setUint8(o + 94, hourly ? 1 : 0);
+      this.offset = o + ROLLUP_BYTES + HOURLY_BYTES;
+    } else {
+      this.offset = o + ROLLUP_BYTES;
+    }
     this.count++;
   }
 

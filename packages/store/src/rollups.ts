@@ -87,6 +87,31 @@ export function encodeBatchRollups(rows: readonly SampleRow[]): Buffer {
   return out.finish();
 }
 
+/** A batch's rollup rows split for the fast path (see splitBatchRollups). */
+export interface SplitRollups {
+  /** First minute and first hour bucket of each tag, for rollup_stage and a merge. */
+  readonly head: Buffer;
+  /** Later minute buckets, in samples_1m's columns. */
+  readonly minutes: Buffer;
+  /** Later hour buckets, in samples_1h's columns. */
+  readonly hours: Buffer;
+}
+
+/**
+ * The batch's rollup rows, split by whether a stored bucket can share their key. When every
+ * row of the batch is newer than the tag's last stored time (the fast path), only each
+ * tag's first minute and first hour can already be stored; the later buckets are new and
+ * go straight in by COPY, which inserts in bulk where an upsert goes row by row.
+ */
+export function splitBatchRollups(rows: readonly SampleRow[]): SplitRollups {
+  const head = new RollupEncoder(2 * rows.length);
+  const minutes = new RollupEncoder(rows.length, false);
+  const hours = new RollupEncoder(rows.length, false);
+  aggregateInto(rows, MINUTE_MS, false, minutes, head);
+  aggregateInto(rows, HOUR_MS, true, hours, head);
+  return { head: head.finish(), minutes: minutes.finish(), hours: hours.finish() };
+}
+
 /** The same aggregates as rows (for tests and tools). */
 export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
   const out: RollupRow[] = [];
@@ -110,12 +135,15 @@ export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
   return out;
 }
 
+/** Aggregates per (tag, bucket of `width`) into `out`; each tag's first bucket into `first` when given. */
 function aggregateInto(
   rows: readonly SampleRow[],
   width: number,
   hourly: boolean,
   out: Pick<RollupEncoder, 'addFields'>,
+  first: Pick<RollupEncoder, 'addFields'> = out,
 ): void {
+  let sink = first;
   let tag = -1;
   let bucket = Number.NaN;
   let min = 0;
@@ -130,7 +158,8 @@ function aggregateInto(
     const v = r.value;
     const b = t - (((t % width) + width) % width);
     if (r.tagId !== tag || b !== bucket) {
-      if (count > 0) out.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
+      if (count > 0) sink.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
+      sink = r.tagId !== tag ? first : out;
       tag = r.tagId;
       bucket = b;
       min = v;
@@ -145,7 +174,7 @@ function aggregateInto(
     lastValue = v;
     lastTime = t;
   }
-  if (count > 0) out.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
+  if (count > 0) sink.addFields(tag, bucket, min, max, sum, count, lastValue, lastTime, hourly);
 }
 
 /** Temporary table of a session that receives a batch's rollup rows (binary COPY). */
@@ -217,14 +246,16 @@ export async function rebuildRollups(
   options: RebuildRollupsOptions,
 ): Promise<{ tags: number; minuteRows: number; hourRows: number }> {
   const ms = (t: Date | number): number => (typeof t === 'number' ? t : t.getTime());
-  const t0 = Math.floor(ms(options.from) / HOUR_MS) * HOUR_MS;
-  const t1 = Math.ceil(ms(options.to) / HOUR_MS) * HOUR_MS;
-  if (!Number.isFinite(t0) || !Number.isFinite(t1) || !(t1 > t0)) {
-    throw new StoreError('STORE_TIME_RANGE', `bad rollup rebuild range: ${t0} to ${t1} [ms]`, {
-      from: t0,
-      to: t1,
+  const from0 = ms(options.from);
+  const to0 = ms(options.to);
+  if (!Number.isFinite(from0) || !Number.isFinite(to0) || !(to0 > from0)) {
+    throw new StoreError('STORE_TIME_RANGE', `bad rollup rebuild range: ${from0} to ${to0} [ms]`, {
+      from: from0,
+      to: to0,
     });
   }
+  const t0 = Math.floor(from0 / HOUR_MS) * HOUR_MS;
+  const t1 = Math.ceil(to0 / HOUR_MS) * HOUR_MS;
   for (const id of options.tagIds ?? []) {
     if (!Number.isInteger(id) || id <= 0 || id > 2 ** 31 - 1) {
       throw new StoreError('STORE_BAD_REQUEST', `tag id ${id} is not a positive int4`, { tagId: id });

@@ -27,6 +27,8 @@ import {
   insertStagedSql,
   MERGE_ROLLUP_STAGE,
   ROLLUP_STAGE_DDL,
+  type SplitRollups,
+  splitBatchRollups,
   TAG_LOCK_CLASS,
 } from './rollups.js';
 
@@ -83,7 +85,10 @@ export interface SampleWriterStats {
 export interface BatchPhaseTimes {
   /** Sorting and encoding the COPY data and rollup rows (in the caller's turn). */
   prepare: number;
-  /** Partition checks, connection, BEGIN, advisory locks and the tag_last check. */
+  /**
+   * Partition checks, connection, BEGIN, advisory locks and the tag_last check; includes
+   * any wait for the event loop while the caller prepares further batches.
+   */
   begin: number;
   /** COPY of the rows (fast path) or COPY to staging plus the insert (staging path, rollups included). */
   copy: number;
@@ -101,32 +106,54 @@ type Row = SampleRow;
 
 const SMALLINT_MAX = 32767;
 
-function toRow(s: SampleInput, index: number): Row {
-  const time = Math.trunc(typeof s.time === 'number' ? s.time : s.time.getTime());
-  const bad = (reason: string): StoreError =>
-    new StoreError('STORE_BAD_SAMPLE', `sample ${index} (tag ${s.tagId}): ${reason}`, {
-      index,
-      tagId: s.tagId,
-      time,
-      value: s.value,
-      quality: s.quality,
-    });
-  if (!Number.isInteger(s.tagId) || s.tagId <= 0 || s.tagId > 2 ** 31 - 1)
-    throw bad('tagId must be a positive int4');
-  if (!Number.isFinite(time)) throw bad('time is not a valid instant');
-  if (!Number.isFinite(s.value)) throw bad(`value ${s.value} is not a finite number`);
-  if (!Number.isInteger(s.quality) || Math.abs(s.quality) > SMALLINT_MAX)
-    throw bad('quality must be a smallint');
-  return { tagId: s.tagId, time, value: s.value, quality: s.quality };
+function badSample(s: SampleInput, index: number, time: number, reason: string): StoreError {
+  return new StoreError('STORE_BAD_SAMPLE', `sample ${index} (tag ${s.tagId}): ${reason}`, {
+    index,
+    tagId: s.tagId,
+    time,
+    value: s.value,
+    quality: s.quality,
+  });
 }
 
-/** Sort by (tag, time) and drop repeated keys inside the batch (first one wins, as in the table). */
+function toRow(s: SampleInput, index: number): Row {
+  const time = Math.trunc(typeof s.time === 'number' ? s.time : s.time.getTime());
+  const { tagId, value, quality } = s;
+  // The checks are written out (no closure per row): this runs for every sample.
+  if (!Number.isInteger(tagId) || tagId <= 0 || tagId > 2_147_483_647)
+    throw badSample(s, index, time, 'tagId must be a positive int4');
+  if (!Number.isFinite(time)) throw badSample(s, index, time, 'time is not a valid instant');
+  if (!Number.isFinite(value)) throw badSample(s, index, time, `value ${value} is not a finite number`);
+  if (!Number.isInteger(quality) || quality > SMALLINT_MAX || quality < -SMALLINT_MAX - 1)
+    throw badSample(s, index, time, 'quality must be a smallint');
+  return { tagId, time, value, quality };
+}
+
+/**
+ * Sort by (tag, time) and drop repeated keys inside the batch (first one wins, as in the
+ * table). A batch already in order (the usual case for one source) is returned as is.
+ */
 function sortUnique<R extends Row>(rows: R[]): R[] {
-  rows.sort((a, b) => a.tagId - b.tagId || a.time - b.time);
-  const out: R[] = [];
+  if (isSortedUnique(rows)) return rows;
+  // Group by tag first: batches usually arrive time-major (every tag at each instant), and
+  // each tag's rows are then already in time order, so no comparison sort of the batch.
+  const byTag = new Map<number, R[]>();
   for (const r of rows) {
-    const prev = out[out.length - 1];
-    if (prev === undefined || prev.tagId !== r.tagId || prev.time !== r.time) out.push(r);
+    const group = byTag.get(r.tagId);
+    if (group === undefined) byTag.set(r.tagId, [r]);
+    else group.push(r);
+  }
+  const out: R[] = [];
+  for (const tag of [...byTag.keys()].sort((a, b) => a - b)) {
+    const group = byTag.get(tag)!;
+    let ordered = true;
+    for (let i = 1; i < group.length && ordered; i++) ordered = group[i - 1]!.time <= group[i]!.time;
+    // Array.prototype.sort is stable, so among repeated keys the first received stays first.
+    if (!ordered) group.sort((a, b) => a.time - b.time);
+    for (const r of group) {
+      const prev = out[out.length - 1];
+      if (prev === undefined || prev.tagId !== r.tagId || prev.time !== r.time) out.push(r);
+    }
   }
   return out;
 }
@@ -152,8 +179,10 @@ interface PreparedBatch {
   readonly lastValues: number[];
   /** Binary COPY data of the rows. */
   readonly data: Buffer;
-  /** Binary COPY data of the batch's rollup rows, when rollups are kept. */
-  readonly rollups: Buffer | undefined;
+  /** The batch's rollup rows for the fast path, when rollups are kept. */
+  readonly rollups: SplitRollups | undefined;
+  /** The rows themselves, for the rare fallback that merges every rollup row. */
+  readonly sorted: readonly Row[];
 }
 
 function prepareBatch(sorted: readonly Row[], rollups: boolean): PreparedBatch {
@@ -186,7 +215,8 @@ function prepareBatch(sorted: readonly Row[], rollups: boolean): PreparedBatch {
     lastTimes,
     lastValues,
     data: encodeSamples(sorted),
-    rollups: rollups && sorted.length > 0 ? encodeBatchRollups(sorted) : undefined,
+    rollups: rollups && sorted.length > 0 ? splitBatchRollups(sorted) : undefined,
+    sorted,
   };
 }
 
@@ -208,6 +238,34 @@ const SAMPLES_STAGE_DDL = `CREATE TEMP TABLE IF NOT EXISTS samples_stage
 // Connections whose session already has the staging tables (created outside any
 // transaction, so a rolled-back batch cannot take them away behind this cache).
 const staged = new WeakSet<pg.PoolClient>();
+
+const STAGE_ROLLUPS =
+  'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)';
+const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_time)';
+
+/**
+ * Fast-path rollups: the buckets after each tag's first are new (every row is newer than
+ * the tag's last stored time), so they go in by COPY; the first buckets are merged. Should
+ * a later bucket exist after all (rollups written around the writer), a savepoint takes
+ * the batch back to merging every bucket.
+ */
+async function writeFastRollups(
+  client: pg.PoolClient,
+  split: SplitRollups,
+  sorted: readonly Row[],
+): Promise<void> {
+  await client.query('SAVEPOINT rollups');
+  try {
+    await copyBuffer(client, `COPY samples_1m ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.minutes);
+    await copyBuffer(client, `COPY samples_1h ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.hours);
+    await copyBuffer(client, STAGE_ROLLUPS, split.head);
+  } catch (error) {
+    if (pgCode(error) !== '23505') throw error;
+    await client.query('ROLLBACK TO SAVEPOINT rollups');
+    await copyBuffer(client, STAGE_ROLLUPS, encodeBatchRollups(sorted));
+  }
+  await client.query(MERGE_ROLLUP_STAGE);
+}
 
 async function writePrepared(
   pool: pg.Pool,
@@ -265,12 +323,7 @@ async function writePrepared(
         lap('copy');
         // Every row went in, so the batch's own aggregates are exactly what the rollups gain.
         if (fast && rollups && batch.rollups !== undefined) {
-          await copyBuffer(
-            client,
-            'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)',
-            batch.rollups,
-          );
-          await client.query(MERGE_ROLLUP_STAGE);
+          await writeFastRollups(client, batch.rollups, batch.sorted);
           lap('rollups');
         }
       }
@@ -377,7 +430,9 @@ export class SampleWriter {
     if (this.closed) throw new StoreError('STORE_WRITER_CLOSED', 'the sample writer is closed');
     const rows = samples.map(toRow);
     this.stats.rowsOffered += rows.length;
-    for (const row of rows) this.accept(row);
+    if (this.compressors.size === 0)
+      this.pending = this.pending.length === 0 ? rows : this.pending.concat(rows);
+    else for (const row of rows) this.accept(row);
     while (this.pending.length >= this.batchSize) {
       await this.enqueue(this.pending.splice(0, this.batchSize));
     }
@@ -412,9 +467,13 @@ export class SampleWriter {
 
   private accept(row: Row): void {
     const c = this.compressors.get(row.tagId);
+    if (c === undefined) {
+      this.pending.push(row);
+      return;
+    }
     const previous = this.lastTime.get(row.tagId);
     // Compression needs time order; a late or repeated sample is stored as is.
-    if (c === undefined || (previous !== undefined && row.time <= previous)) {
+    if (previous !== undefined && row.time <= previous) {
       this.pending.push(row);
       return;
     }

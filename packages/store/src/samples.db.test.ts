@@ -3,7 +3,8 @@ import { createTestDatabase, type TestDatabase } from '../../../test/support/dat
 import { ensureCurrentPartitions, listPartitions } from './partitions.js';
 import { QUALITY_GOOD } from './quality.js';
 import { applyRetention } from './retention.js';
-import { type SampleInput, SampleWriter } from './samples-writer.js';
+import { rebuildRollups } from './rollups.js';
+import { type SampleInput, SampleWriter, writeSampleBatch } from './samples-writer.js';
 import { readTrend } from './trends.js';
 
 let db: TestDatabase;
@@ -24,6 +25,36 @@ function samples(tagId: number, n: number, stepMs = 1000, start = T0): SampleInp
     value: 100 + 10 * Math.sin(i / 50) + tagId,
     quality: QUALITY_GOOD,
   }));
+}
+
+/**
+ * Rollup buckets of the given tags that differ from aggregates recomputed from raw samples
+ * (min, max, count, last value and time exact; sum to float rounding, common practice, no
+ * source), for one rollup table; plus how many buckets were compared.
+ */
+async function rollupMismatches(
+  table: 'samples_1m' | 'samples_1h',
+  tagIds: number[],
+): Promise<{ bad: number; n: number }> {
+  const unit = table === 'samples_1m' ? 'minute' : 'hour';
+  const r = await db.pool.query<{ bad: number; n: number }>(
+    `WITH raw AS (
+       SELECT tag_id, date_trunc('${unit}', time) AS bucket, min(value) AS lo, max(value) AS hi, sum(value) AS s,
+              count(*)::int AS c, (array_agg(value ORDER BY time DESC))[1] AS lv, max(time) AS lt
+         FROM samples WHERE tag_id = ANY($1) GROUP BY 1, 2)
+     SELECT count(*) FILTER (WHERE m.bucket IS NULL OR raw.bucket IS NULL OR m.min <> raw.lo OR m.max <> raw.hi
+                               OR m.count <> raw.c OR m.last_value <> raw.lv OR m.last_time <> raw.lt
+                               OR abs(m.sum - raw.s) > 1e-9 * greatest(1, abs(raw.s)))::int AS bad,
+            count(*)::int AS n
+       FROM raw FULL JOIN (SELECT * FROM ${table} WHERE tag_id = ANY($1)) m USING (tag_id, bucket)`,
+    [tagIds],
+  );
+  return r.rows[0]!;
+}
+
+/** The test samples with numeric times, as writeSampleBatch takes them. */
+function asRows(input: SampleInput[]): { tagId: number; time: number; value: number; quality: number }[] {
+  return input.map((x) => ({ ...x, time: typeof x.time === 'number' ? x.time : x.time.getTime() }));
 }
 
 async function count(sql: string, params: unknown[] = []): Promise<number> {
@@ -169,6 +200,81 @@ describe('SampleWriter', () => {
   });
 });
 
+describe('rollups kept in step with raw samples', () => {
+  it('a later bucket already stored (written around the writer) sends the batch to the merge path', async () => {
+    const start = Date.UTC(2026, 3, 1, 8, 0, 0);
+    await writeSampleBatch(db.pool, asRows(samples(70, 300, 1000, start)));
+    // Around the writer: one sample 20 minutes on, with its rollup rows, tag_last untouched.
+    const late = start + 20 * 60_000 + 500;
+    await db.pool.query(`INSERT INTO samples VALUES (70, $1, 42.5, 192)`, [new Date(late).toISOString()]);
+    await rebuildRollups(db.pool, { tagIds: [70], from: late, to: late + 1 });
+    // The next batch is newer than tag_last, so its samples go in by COPY; its minute 20
+    // bucket exists already, so its rollups must be merged, not copied.
+    const r = await writeSampleBatch(db.pool, asRows(samples(70, 1800, 1000, start + 300_000)));
+    expect(r).toEqual({ stored: 1800, fast: true });
+    // Minutes 0-4 from the first batch, 5-34 from the second (the late sample is in minute 20).
+    expect(await rollupMismatches('samples_1m', [70])).toMatchObject({ bad: 0, n: 35 });
+    expect(await rollupMismatches('samples_1h', [70])).toMatchObject({ bad: 0, n: 1 });
+  });
+
+  it('the staging path merges only the rows that were new', async () => {
+    const start = Date.UTC(2026, 3, 2, 8, 0, 0);
+    await writeSampleBatch(db.pool, asRows(samples(71, 100, 1000, start)));
+    // Overlaps the first 100 s with other values (never stored), adds 200 s more, unsorted.
+    const again = asRows(samples(71, 300, 1000, start))
+      .map((x) => ({ ...x, value: x.value + 7 }))
+      .reverse();
+    const r = await writeSampleBatch(db.pool, again);
+    expect(r).toEqual({ stored: 200, fast: false });
+    expect(await rollupMismatches('samples_1m', [71])).toMatchObject({ bad: 0, n: 5 });
+    expect(await rollupMismatches('samples_1h', [71])).toMatchObject({ bad: 0 });
+  });
+
+  it('rebuildRollups repairs damaged buckets and removes buckets without samples', async () => {
+    const start = Date.UTC(2026, 3, 3, 22, 30, 0);
+    const w = new SampleWriter(db.pool, { batchSize: 900, flushIntervalMs: 0 });
+    await w.write([...samples(72, 4000, 1500, start), ...samples(73, 4000, 1500, start)]);
+    await w.close();
+    await db.pool.query('UPDATE samples_1m SET max = -1, count = 1 WHERE tag_id IN (72, 73)');
+    await db.pool.query('UPDATE samples_1h SET sum = 0 WHERE tag_id = 73');
+    await db.pool.query(
+      `INSERT INTO samples_1m VALUES (72, '2026-04-05T00:00:00Z', 1, 1, 1, 1, 1, '2026-04-05T00:00:00Z')`,
+    );
+    expect((await rollupMismatches('samples_1m', [72, 73])).bad).toBeGreaterThan(100);
+    const one = await rebuildRollups(db.pool, { tagIds: [72], from: start, to: Date.UTC(2026, 3, 6) });
+    expect(one.tags).toBe(1);
+    expect(await rollupMismatches('samples_1m', [72])).toMatchObject({ bad: 0 });
+    expect((await rollupMismatches('samples_1m', [73])).bad).toBeGreaterThan(0);
+    // No tag list: every tag with samples or rollups in the range.
+    await rebuildRollups(db.pool, { from: new Date(start), to: new Date(Date.UTC(2026, 3, 6)) });
+    for (const table of ['samples_1m', 'samples_1h'] as const) {
+      const m = await rollupMismatches(table, [72, 73]);
+      expect(m.bad).toBe(0);
+      expect(m.n).toBeGreaterThan(table === 'samples_1m' ? 150 : 3);
+    }
+    await expect(rebuildRollups(db.pool, { from: start + 1000, to: start })).rejects.toMatchObject({
+      code: 'STORE_TIME_RANGE',
+    });
+  });
+
+  it('stores instants before 2000 and before 1970 exactly (binary COPY timestamps)', async () => {
+    const times = [Date.UTC(1999, 11, 31, 23, 59, 59, 999), Date.UTC(1969, 6, 20, 20, 17, 40, 1)];
+    for (const [i, t] of times.entries()) {
+      // No rollups: their partitions for 1969 and 1999 would be dropped by the retention test below.
+      await writeSampleBatch(db.pool, [{ tagId: 74, time: t, value: -0.125 * (i + 1), quality: 192 }], {
+        rollups: false,
+      });
+    }
+    const r = await db.pool.query<{ t: Date; v: number; q: number }>(
+      'SELECT time AS t, value AS v, quality AS q FROM samples WHERE tag_id = 74 ORDER BY time DESC',
+    );
+    expect(r.rows.map((x) => [x.t.getTime(), x.v, x.q])).toEqual([
+      [times[0], -0.125, 192],
+      [times[1], -0.25, 192],
+    ]);
+  });
+});
+
 describe('trends', () => {
   it('downsampling keeps a single-sample spike at every zoom, raw and rollup', async () => {
     const w = new SampleWriter(db.pool, { batchSize: 5000, flushIntervalMs: 0 });
@@ -236,6 +342,38 @@ describe('trends', () => {
       { index: 0, min: 1, max: 5, mean: 3, last: 3, count: 3 },
       { index: 1, min: 2, max: 9, mean: 5, last: 4, count: 3 },
     ]);
+  });
+});
+
+describe('quality convention', () => {
+  it('compresses only good samples, stores kept points as good and others as received', async () => {
+    const w = new SampleWriter(db.pool, {
+      flushIntervalMs: 0,
+      compression: new Map([[42, { method: 'deadband', deviation: 100 }]]),
+    });
+    // OPC DA codes: 0xD8 good (local override), 0x54 uncertain, 0x1C bad (out of service).
+    const input = samples(42, 50).map((x, i) => ({
+      ...x,
+      quality: i === 10 ? 0x54 : i === 20 ? 0x1c : 0xd8,
+    }));
+    await w.write(input);
+    await w.close();
+    const r = await db.pool.query<{ t: Date; q: number }>(
+      'SELECT time AS t, quality AS q FROM samples WHERE tag_id = 42 ORDER BY time',
+    );
+    const t0 = input[0]!.time as number;
+    // Deadband 100 keeps the first and (on close) the last good point, plus both non-good ones.
+    expect(r.rows.map((x) => [(x.t.getTime() - t0) / 1000, x.q])).toEqual([
+      [0, 192],
+      [10, 0x54],
+      [20, 0x1c],
+      [49, 192],
+    ]);
+  });
+
+  it('the samples table defaults quality to good (192)', async () => {
+    await db.pool.query(`INSERT INTO samples (tag_id, time, value) VALUES (43, '2026-01-20T00:00:00Z', 1)`);
+    expect(await count('SELECT quality::int AS n FROM samples WHERE tag_id = 43')).toBe(192);
   });
 });
 
