@@ -120,6 +120,34 @@ describe('OPC UA ingest', () => {
     expect(new Set(first.map((s) => s.quality))).toEqual(new Set([192, 64, 0]));
   });
 
+  it('connects with SignAndEncrypt (Basic256Sha256) using its own certificate', async () => {
+    const got: number[] = [];
+    const metrics = new SourceMetrics('secure', 'opcua');
+    const source = new OpcuaSource(
+      {
+        id: 'secure',
+        endpoint: server.endpoint,
+        items: [{ tagId: 1, nodeId: `ns=1;s=${NAMES[1]}` }],
+        samplingIntervalMs: 50,
+        publishingIntervalMs: 100,
+        securityMode: 'SignAndEncrypt',
+        securityPolicy: 'Basic256Sha256',
+        pkiDir: join(PKI, 'client'),
+        acceptUnknownCertificates: true,
+      },
+      (s) => got.push(s.value),
+      metrics,
+      logger,
+    );
+    await source.start();
+    server.play(100);
+    await sleep(800);
+    server.pause();
+    await source.stop();
+    expect(metrics.snapshot().errorsTotal).toBe(0);
+    expect(got.length).toBeGreaterThan(3);
+  });
+
   it('status code severity maps onto OPC DA quality (OPC UA Part 4, 7.39)', () => {
     expect(qualityFromStatus(0)).toBe(192); // Good
     expect(qualityFromStatus(0x408f0000)).toBe(64); // UncertainLastUsableValue
