@@ -184,4 +184,23 @@ describe('compute job on a synthetic expander and compressor (invented data, per
     expect(after[i]?.uEfficiency as number).toBeGreaterThan(1.2 * (before[i]?.uEfficiency as number));
     expect(after[i]?.efficiency).toBe(before[i]?.efficiency);
   });
+  it('on a 5-minute grid (gridMs), incremental runs write exactly the rows the backfill wrote', async () => {
+    const G = 300_000;
+    const from = T0 + 6 * H;
+    const to = T0 + 31 * H;
+    await db.pool.query('DELETE FROM results');
+    await backfill(db.pool, { from, to, fluids, gridMs: G });
+    const ref = await readResults(db.pool, ac.machineId, from, to);
+    expect(ref.length).toBe((to - from) / G);
+    expect(ref.every((r) => r.time % G === 0)).toBe(true);
+    await db.pool.query('DELETE FROM results');
+    await db.pool.query(`DELETE FROM job_watermarks WHERE job = 'compute'`);
+    // Watermarks start at the first sample; runs every 70 minutes end mid-segment (5 h segments).
+    for (let now = T0 + 20 * 60_000; now <= END; now += 70 * 60_000) {
+      const stats = await runComputeOnce(db.pool, { nowMs: now, fluids, gridMs: G, maxCatchUpMs: 4 * H });
+      expect(stats.failed).toBe(0);
+    }
+    const inc = await readResults(db.pool, ac.machineId, from, to);
+    expect(inc).toEqual(ref);
+  });
 });

@@ -11,7 +11,6 @@ import { computeRange, type RawSeries, type ResultRow, resolveComputeOptions } f
 const T0 = Date.UTC(2026, 2, 2);
 const MIN = 60_000;
 const H = 3_600_000;
-const ATM = 101_325; // [Pa] (NIST SP 811, exact)
 
 /** A fluid that counts its state calls, to show the segment form calls the model less. */
 function counting(inner: Fluid): { fluid: Fluid; calls: () => number } {
