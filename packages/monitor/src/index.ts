@@ -18,6 +18,7 @@ export * from './caution.js';
 export * from './degradation.js';
 export * from './errors.js';
 export * from './instrument/index.js';
+export * from './report/index.js';
 export * from './rolling.js';
 export * from './stats.js';
 export * from './steady-state.js';

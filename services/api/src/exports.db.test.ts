@@ -1,9 +1,8 @@
-import { CAUTION } from '@isentrope/monitor';
+import { buildMonthlyReport, CAUTION } from '@isentrope/monitor';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
 import type { ApiApp } from './app.js';
 import { gatherMonthlyInput } from './queries/monthly.js';
-import { buildMonthlyReport } from './report.js';
 import { buildTestApp } from './test-support/app.js';
 import {
   createToken,

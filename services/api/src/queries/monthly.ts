@@ -4,8 +4,9 @@
  * result's operating point, the daily drift over the rate window ending at the month's end, the
  * alarm band and the previous month's means. Used by the exports endpoint and by the monthly job.
  */
+
+import { type MonthlyReportInput, monthRange, previousMonth } from '@isentrope/monitor';
 import type pg from 'pg';
-import { type MonthlyReportInput, monthRange, previousMonth } from '../report.js';
 import { activeBaseline, baselineAt } from './baselines.js';
 import { getBands, listMachines } from './machines.js';
 import { withoutJit } from './nojit.js';

@@ -1,4 +1,11 @@
 import { createHash } from 'node:crypto';
+import {
+  buildMonthlyReport,
+  monthRange,
+  renderReportCsv,
+  renderReportHtml,
+  renderReportJson,
+} from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
@@ -15,13 +22,6 @@ import {
   problemSchema,
 } from '../http/schemas.js';
 import { gatherMonthlyInput } from '../queries/monthly.js';
-import {
-  buildMonthlyReport,
-  monthRange,
-  renderReportCsv,
-  renderReportHtml,
-  renderReportJson,
-} from '../report.js';
 
 export const EXPORT_KIND = 'monthly-degradation';
 
