@@ -45,7 +45,11 @@ export function touchedBuckets(
 const UPSERT = `ON CONFLICT (tag_id, bucket) DO UPDATE SET min = excluded.min, max = excluded.max, sum = excluded.sum,
   count = excluded.count, last_value = excluded.last_value, last_time = excluded.last_time`;
 
-/** Recomputes samples_1m over the given minute buckets from raw samples. */
+/**
+ * Recomputes samples_1m over the given minute buckets from raw samples. Not used by the
+ * writer any more (its per-bucket join re-read samples and grew with the table); kept for
+ * callers that name single buckets. For ranges use rebuildRollups.
+ */
 export async function refreshMinuteRollups(db: Queryable, touched: TouchedBuckets): Promise<void> {
   if (touched.tagIds.length === 0) return;
   await db.query(
