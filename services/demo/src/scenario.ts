@@ -197,7 +197,8 @@ export function machineTruth(span: DemoSpan, machine: DemoMachineId, t: number):
       // The pumps share the boiler feed (= steam flow); while bfp-2 is out, bfp-1 carries it alone.
       const a2 = availability(t, s.bfp2Outages, RAMP / 4);
       const total = 6 + 9 * demand;
-      const massFlow = machine === 'bfp-1' ? total / (1 + a2) : (total * a2) / (1 + a2);
+      // Alone, bfp-1 is held at its rated flow (the boiler backs off), so it stays on its curve.
+      const massFlow = machine === 'bfp-1' ? Math.min(total / (1 + a2), 8) : (total * a2) / (1 + a2);
       const pIn = 5.5e5 + 0.1e5 * wander(machine === 'bfp-1' ? 31 : 32, seconds, 3600);
       const TIn = 378.15 + 0.5 * wander(33, seconds, 7200);
       const q = massFlow / 7.5; // fraction of the best-efficiency flow

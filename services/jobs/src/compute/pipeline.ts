@@ -790,6 +790,18 @@ function evaluatePoint(
         : r.massFlow;
   const withU = (v: number | undefined, k: number): number | null =>
     v === undefined || !Number.isFinite(v) ? null : fin(u[k]);
+  // The figure trended as "efficiency". Pumps and fans with a measured power: the power-based
+  // efficiency (hydraulic power / shaft power; fan air power with ISO 5801 k_p / shaft power).
+  // Their temperature rise is about 1 K, which plant thermometers cannot resolve well enough for
+  // the thermodynamic method (ISO 5198 asks for far finer thermometry), so its uncertainty would
+  // hide any real loss. Turbines and compressors, or no power tag: the isentropic efficiency.
+  const kind = machine.row.kind;
+  const [primary, primaryU] =
+    kind === 'pump' && r.hydraulicEfficiency !== undefined
+      ? [r.hydraulicEfficiency, OUT_ETA_HYDRAULIC]
+      : kind === 'fan' && r.fanEfficiency !== undefined
+        ? [r.fanEfficiency, OUT_ETA_FAN]
+        : [r.isentropicEfficiency, OUT_ETA];
   const row: PointRow = {
     pIn: base.pIn,
     tIn: base.tIn,
@@ -802,8 +814,8 @@ function evaluatePoint(
     tOutS: r.outletIsentropic.T,
     hOutS: r.outletIsentropic.h,
     massFlow: fin(r.massFlow),
-    efficiency: fin(r.isentropicEfficiency),
-    uEfficiency: withU(r.isentropicEfficiency, OUT_ETA),
+    efficiency: fin(primary),
+    uEfficiency: withU(primary, primaryU),
     polytropicEfficiency: fin(r.polytropicEfficiency),
     uPolytropicEfficiency: withU(r.polytropicEfficiency, OUT_ETA_POLY),
     specificWork: fin(r.specificWork),
@@ -826,7 +838,7 @@ function evaluatePoint(
     row,
     flags,
     // A machine at rest or without head has no meaningful efficiency (not an instrument fault).
-    modelValid: r.valid && r.isentropicEfficiency !== undefined && !noEfficiency,
+    modelValid: r.valid && primary !== undefined && !noEfficiency,
     secondLaw,
     impossible: impossibleFlag,
   };
