@@ -165,80 +165,83 @@ async function main(): Promise<void> {
     );
     const tags = await loadTagLookup(pool, 'bench');
 
-    // 1. CSV -> committed rows, and psql \copy of the same samples.
-    const n = env('INGEST_BENCH_SAMPLES', 5_000_000);
-    const csv = join(work, 'bench.csv');
-    const samples = await writeWideCsv(csv, { samples: n });
-    const size = (await stat(csv)).size;
+    const only = process.env.INGEST_BENCH_ONLY;
+    if (only !== 'opcua') {
+      // 1. CSV -> committed rows, and psql \copy of the same samples.
+      const n = env('INGEST_BENCH_SAMPLES', 5_000_000);
+      const csv = join(work, 'bench.csv');
+      const samples = await writeWideCsv(csv, { samples: n });
+      const size = (await stat(csv)).size;
 
-    let t = performance.now();
-    await parseCsv(createReadStream(csv, { highWaterMark: 1 << 16 }), csvFormatSchema.parse({}), tags, {
-      samples: async () => {},
-      quarantine: async () => {},
-    });
-    out('ingest.csv.parse_only', samples / ((performance.now() - t) / 1000), 'samples/s', { samples });
+      let t = performance.now();
+      await parseCsv(createReadStream(csv, { highWaterMark: 1 << 16 }), csvFormatSchema.parse({}), tags, {
+        samples: async () => {},
+        quarantine: async () => {},
+      });
+      out('ingest.csv.parse_only', samples / ((performance.now() - t) / 1000), 'samples/s', { samples });
 
-    t = performance.now();
-    const r = await ingestCsvFile(csv, {
-      pool,
-      source: 'bench',
-      tags,
-      processedDir: null,
-      rejectedDir: null,
-    });
-    const secs = (performance.now() - t) / 1000;
-    if (r.status !== 'done' || r.summary.samples !== samples) throw new Error(`bench ingest: ${r.status}`);
-    const stored = await pool.query<{ n: number }>('SELECT count(*)::int AS n FROM samples');
-    out('ingest.csv.committed', samples / secs, 'rows/s', {
-      samples,
-      stored: stored.rows[0]?.n,
-      fileMB: size / 1e6,
-      seconds: secs,
-    });
+      t = performance.now();
+      const r = await ingestCsvFile(csv, {
+        pool,
+        source: 'bench',
+        tags,
+        processedDir: null,
+        rejectedDir: null,
+      });
+      const secs = (performance.now() - t) / 1000;
+      if (r.status !== 'done' || r.summary.samples !== samples) throw new Error(`bench ingest: ${r.status}`);
+      const stored = await pool.query<{ n: number }>('SELECT count(*)::int AS n FROM samples');
+      out('ingest.csv.committed', samples / secs, 'rows/s', {
+        samples,
+        stored: stored.rows[0]?.n,
+        fileMB: size / 1e6,
+        seconds: secs,
+      });
 
-    const copyFile = join(work, 'bench.copy');
-    await writeCopyFile(
-      copyFile,
-      samples,
-      names.map((x) => ids.get(x)!),
-    );
-    await pool.query(
-      'CREATE TABLE bench_copy (tag_id integer, time timestamptz, value double precision, quality smallint, PRIMARY KEY (tag_id, time))',
-    );
-    t = performance.now();
-    await new Promise<void>((resolve, reject) => {
-      const p = spawn(
-        '/usr/lib/postgresql/15/bin/psql',
-        [url!, '-q', '-c', `\\copy bench_copy FROM '${copyFile}'`],
-        { stdio: 'inherit' },
+      const copyFile = join(work, 'bench.copy');
+      await writeCopyFile(
+        copyFile,
+        samples,
+        names.map((x) => ids.get(x)!),
       );
-      p.on('error', reject);
-      p.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`psql exited ${code}`))));
-    });
-    out('ingest.psql_copy', samples / ((performance.now() - t) / 1000), 'rows/s', {
-      samples,
-      table: 'plain, same primary key',
-    });
-    await rm(copyFile);
-    await rm(csv);
+      await pool.query(
+        'CREATE TABLE bench_copy (tag_id integer, time timestamptz, value double precision, quality smallint, PRIMARY KEY (tag_id, time))',
+      );
+      t = performance.now();
+      await new Promise<void>((resolve, reject) => {
+        const p = spawn(
+          '/usr/lib/postgresql/15/bin/psql',
+          [url!, '-q', '-c', `\\copy bench_copy FROM '${copyFile}'`],
+          { stdio: 'inherit' },
+        );
+        p.on('error', reject);
+        p.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`psql exited ${code}`))));
+      });
+      out('ingest.psql_copy', samples / ((performance.now() - t) / 1000), 'rows/s', {
+        samples,
+        table: 'plain, same primary key',
+      });
+      await rm(copyFile);
+      await rm(csv);
 
-    // 2. Peak RSS while ingesting a large CSV.
-    const mb = env('INGEST_BENCH_RSS_MB', 250);
-    const big = join(work, 'big.csv');
-    const bigSamples = await writeWideCsv(big, { bytes: mb * 1e6 });
-    const parseRss = await runChild(['--rss', 'parse', big]);
-    out('ingest.csv.parse_max_rss', parseRss.maxRssMB ?? Number.NaN, 'MB', {
-      fileMB: mb,
-      samples: bigSamples,
-      seconds: parseRss.seconds,
-    });
-    const dbRss = await runChild(['--rss', 'db', big, url, String(env('INGEST_BENCH_RSS_SECONDS', 60))]);
-    out('ingest.csv.db_max_rss', dbRss.maxRssMB ?? Number.NaN, 'MB', {
-      fileMB: mb,
-      samplesDone: dbRss.samples,
-      seconds: dbRss.seconds,
-    });
-    await rm(big);
+      // 2. Peak RSS while ingesting a large CSV.
+      const mb = env('INGEST_BENCH_RSS_MB', 250);
+      const big = join(work, 'big.csv');
+      const bigSamples = await writeWideCsv(big, { bytes: mb * 1e6 });
+      const parseRss = await runChild(['--rss', 'parse', big]);
+      out('ingest.csv.parse_max_rss', parseRss.maxRssMB ?? Number.NaN, 'MB', {
+        fileMB: mb,
+        samples: bigSamples,
+        seconds: parseRss.seconds,
+      });
+      const dbRss = await runChild(['--rss', 'db', big, url, String(env('INGEST_BENCH_RSS_SECONDS', 60))]);
+      out('ingest.csv.db_max_rss', dbRss.maxRssMB ?? Number.NaN, 'MB', {
+        fileMB: mb,
+        samplesDone: dbRss.samples,
+        seconds: dbRss.seconds,
+      });
+      await rm(big);
+    }
 
     // 3. OPC UA with many monitored items.
     const items = env('INGEST_BENCH_OPCUA_ITEMS', 10_000);

@@ -77,6 +77,7 @@ export class Forwarder {
   private pending: Sample[] = [];
   private inFlight: Promise<void> = Promise.resolve();
   private draining = false;
+  private busy = false;
   private stopped = false;
   private readonly timer: NodeJS.Timeout;
   private retryTimer: NodeJS.Timeout | undefined;
@@ -104,12 +105,20 @@ export class Forwarder {
     this.o.metrics.bufferBytes = this.o.buffer.bytes;
   }
 
-  /** Starts writing what is pending, after the write in flight (one at a time, in order). */
+  /**
+   * Starts writing what is pending when no write is in flight (one at a time, in order).
+   * While a write is slow, samples gather into one larger batch: the store's cost is
+   * largely per tag and per batch, so coalescing is what lets it catch up.
+   */
   private kick(): void {
-    if (this.pending.length === 0) return;
+    if (this.busy || this.pending.length === 0) return;
     const batch = this.pending;
     this.pending = [];
-    this.inFlight = this.inFlight.then(() => this.handle(batch));
+    this.busy = true;
+    this.inFlight = this.handle(batch).finally(() => {
+      this.busy = false;
+      if (this.pending.length >= this.maxBatch) this.kick();
+    });
   }
 
   private async toBuffer(batch: Sample[]): Promise<void> {
@@ -194,11 +203,13 @@ export class Forwarder {
 
   /** Writes what is pending (to the store, or the buffer) and stops; buffered samples stay on disk. */
   async stop(): Promise<void> {
-    this.kick();
     this.stopped = true;
     clearInterval(this.timer);
     if (this.retryTimer !== undefined) clearTimeout(this.retryTimer);
-    await this.inFlight;
+    while (this.busy || this.pending.length > 0) {
+      this.kick();
+      await this.inFlight;
+    }
     while (this.draining) await new Promise((r) => setTimeout(r, 20));
     await this.o.buffer.close();
   }
