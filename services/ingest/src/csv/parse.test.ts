@@ -1,0 +1,61 @@
+import { Readable } from 'node:stream';
+import { describe, expect, it } from 'vitest';
+import { tagLookupFrom } from '../types.js';
+import { csvFormatSchema } from './format.js';
+import { parseCsv, parseValue, type QuarantineEntry } from './parse.js';
+
+const tags = tagLookupFrom([
+  { id: 1, name: 'ST1.PI-100', unit: 'bara' },
+  { id: 2, name: 'ST1.TI-100', unit: 'degC' },
+]);
+
+async function run(text: string, format: Parameters<typeof csvFormatSchema.parse>[0]) {
+  const samples: [number, string, number, number][] = [];
+  const quarantine: QuarantineEntry[] = [];
+  const summary = await parseCsv(Readable.from([Buffer.from(text)]), csvFormatSchema.parse(format), tags, {
+    samples: async (b) => {
+      for (const s of b) samples.push([s.tagId, s.time.toISOString(), s.value, s.quality]);
+    },
+    quarantine: async (e) => {
+      quarantine.push(...e);
+    },
+  });
+  return { samples, quarantine, summary };
+}
+
+// Expected instants worked by hand from each text and zone (common practice, no source).
+describe('parseCsv', () => {
+  it('maps header aliases to tags and reads US 12-hour times in a US zone', async () => {
+    const r = await run('Timestamp,PT100 Inlet,TT100\r\n03/29/2026 02:30:00 PM,42.5,510\r\n', {
+      aliases: { 'PT100 Inlet': 'ST1.PI-100', TT100: 'ST1.TI-100' },
+      timeZone: 'America/New_York',
+    });
+    expect(r.summary.timeFormat).toBe('mdy12');
+    // 14:30 EDT (UTC-4 after 8 March 2026, Energy Policy Act of 2005) is 18:30Z.
+    expect(r.samples).toEqual([
+      [1, '2026-03-29T18:30:00.000Z', 42.5, 192],
+      [2, '2026-03-29T18:30:00.000Z', 510, 192],
+    ]);
+    expect(r.quarantine).toEqual([]);
+  });
+
+  it('reads epoch milliseconds in long files and can quarantine the repeated hour', async () => {
+    const long = await run('tag,time,value\nST1.PI-100,1772359200000,1\n', { layout: 'long' });
+    expect(long.samples).toEqual([[1, '2026-03-01T10:00:00.000Z', 1, 192]]);
+    const fold = await run('time,ST1.PI-100\n2026-10-25 02:30:00,1\n2026-10-25 03:30:00,2\n', {
+      timeZone: 'Europe/Berlin',
+      ambiguousTime: 'quarantine',
+    });
+    expect(fold.quarantine.map((q) => [q.line, q.code])).toEqual([[2, 'ambiguous-time']]);
+    // 03:30 CET (UTC+1) is 02:30Z (EU rule, Directive 2000/84/EC).
+    expect(fold.samples).toEqual([[1, '2026-10-25T02:30:00.000Z', 2, 192]]);
+  });
+
+  it('parses values strictly', () => {
+    expect(parseValue('1.5e3', false)).toEqual({ ok: true, value: 1500 });
+    expect(parseValue('12,5', true)).toEqual({ ok: true, value: 12.5 });
+    expect(parseValue('1.234,5', true)).toMatchObject({ ok: false, code: 'bad-value' });
+    expect(parseValue('-Inf', false)).toMatchObject({ ok: false, code: 'non-finite-value' });
+    expect(parseValue('12 bar', false)).toMatchObject({ ok: false, code: 'bad-value' });
+  });
+});
