@@ -9,6 +9,7 @@ export * from './compute/config.js';
 export * from './compute/job.js';
 export * from './compute/pipeline.js';
 export * from './errors.js';
+export * from './instrument/gauge-absolute.js';
 export * from './monthly/job.js';
 export * from './notifications/sender.js';
 export { readResults, writeResults } from './queries/results.js';

@@ -1,13 +1,16 @@
 /**
  * The job bodies of the analysis layer, as startJobs installs them:
- *  - alerts (each minute, after compute): the analysis pass (baseline, drift series, machine
- *    status) then the alert pass, in that order, under the one lock of the 'alerts' job;
+ *  - alerts (each minute, after compute): the instrument step (gauge/absolute mix-ups flagged on
+ *    the results the compute job wrote), the analysis pass (baseline, drift series, machine
+ *    status), then the alert pass, in that order, under the one lock of the 'alerts' job: the
+ *    flags must be on the results before the drift statistics and the alert bands read them;
  *  - notifications (every 10 s): one drain of the outbox;
  *  - monthly (1st, 02:00 site time): the monthly export, only when config.monthly is given.
  */
 import type pg from 'pg';
 import type { Logger } from 'pino';
 import { type AnalysisOptions, runAnalysisOnce } from '../analysis/job.js';
+import { type GaugeAbsoluteJobOptions, runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
 import { type MonthlyOptions, runMonthlyExport } from '../monthly/job.js';
 import {
   ensureConfiguredTargets,
@@ -23,6 +26,8 @@ export interface AnalysisJobsConfig {
   /** SMTP URL (nodemailer), sender and the address alerts go to. */
   readonly smtp?: { readonly url: string; readonly from: string; readonly to: string };
   readonly analysis?: Omit<AnalysisOptions, 'machineIds'>;
+  /** Gauge/absolute step (services/jobs/src/instrument): trailing window and detector settings. */
+  readonly instrument?: Omit<GaugeAbsoluteJobOptions, 'nowMs' | 'machineIds'>;
   readonly alerts?: Omit<AlertsOptions, 'nowMs' | 'machineIds'>;
   readonly notifications?: Omit<SenderOptions, 'nowMs' | 'webhookSecret' | 'mailer' | 'mailFrom'>;
   /** Present: schedule the monthly export (energy price optional). */
@@ -44,12 +49,22 @@ export function analysisJobBodies(deps: {
   let targetsReady = false;
   const bodies: { alerts: JobBody; notifications: JobBody; monthly?: JobBody } = {
     alerts: async (tickMs) => {
+      const instrument = await runGaugeAbsoluteOnce(pool, { ...config.instrument, nowMs: tickMs });
+      for (const s of instrument.skipped)
+        log.warn({ machineId: s.machineId, reason: s.reason }, 'gauge/absolute check skipped');
       const analysis = await runAnalysisOnce(pool, { ...config.analysis, nowMs: tickMs });
       for (const a of analysis)
         if (a.baseline.startsWith('failed'))
           log.warn({ machineId: a.machineId, fit: a.baseline }, 'baseline fit failed');
       const alerts = await runAlertsOnce(pool, { ...config.alerts, nowMs: tickMs });
       return {
+        instrument: {
+          standing: instrument.standing,
+          dismissed: instrument.dismissed,
+          reverted: instrument.reverted,
+          flaggedRows: instrument.flaggedRows,
+          notPositiveRows: instrument.notPositiveRows,
+        },
         analysed: analysis.length,
         driftRows: analysis.reduce((s, a) => s + a.driftRows, 0),
         ...alerts,

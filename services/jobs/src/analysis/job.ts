@@ -13,6 +13,7 @@
 import { CAUTION, computeDrift, degradation } from '@isentrope/monitor';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
+import { runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
 import type { Queryable } from '../queries/machines.js';
 import {
   fitBaselineFromSpec,
@@ -342,10 +343,20 @@ export async function runAnalysisOnce(
   return out;
 }
 
-/** Analysis after a backfill: the whole drift series of the machines, however long. */
-export function backfillAnalysis(
+/**
+ * Analysis after a backfill: first the gauge/absolute step over all results up to nowMs (as the
+ * alerts tick runs it before the analysis, services/jobs/src/instrument), then the whole drift
+ * series of the machines, however long.
+ */
+export async function backfillAnalysis(
   pool: pg.Pool,
   options: AnalysisOptions & { readonly nowMs: number },
 ): Promise<MachineAnalysis[]> {
+  await runGaugeAbsoluteOnce(pool, {
+    nowMs: options.nowMs,
+    windowMs: Number.POSITIVE_INFINITY,
+    ...(options.machineIds === undefined ? {} : { machineIds: options.machineIds }),
+    ...(options.stepMs === undefined ? {} : { stepMs: options.stepMs }),
+  });
   return runAnalysisOnce(pool, { ...options, maxBatches: Number.POSITIVE_INFINITY });
 }

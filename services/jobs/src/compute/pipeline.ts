@@ -183,8 +183,6 @@ export interface ResultRow {
 /** Instrument-fault flags carry this prefix, so they stay apart from notes on the figures. */
 export const FAULT_PREFIX = 'fault:';
 
-/** Fraction of an atmosphere within which a reading "one atmosphere off" is suspected (common practice, no source). */
-const GAUGE_SUSPECT_TOLERANCE = 0.15;
 /** |p_out/p_in - 1| below which the machine counts as stopped (common practice, no source). Fans run on less: see report. */
 const MIN_RUNNING_RATIO = 0.02;
 /** Mass flow below this fraction of the rated flow: stopped (common practice, no source). */
@@ -743,14 +741,8 @@ function evaluatePoint(
   }
   const base = baseRow(pIn, tIn, pOut, tOut);
   const flags: string[] = [];
-  // Gauge/absolute mix-up: a pressure about one atmosphere off its rated value (common practice, no source).
-  const suspect = (role: string, p: number, rated: number | undefined): void => {
-    if (rated === undefined) return;
-    const off = Math.abs(Math.abs(p - rated) - 101_325);
-    if (off < GAUGE_SUSPECT_TOLERANCE * 101_325) flags.push(`${FAULT_PREFIX}gauge-absolute-suspect:${role}`);
-  };
-  suspect('inletPressure', pIn, machine.ratedInletPressure);
-  suspect('outletPressure', pOut, machine.ratedOutletPressure);
+  // Gauge/absolute mix-ups are found over time by the instrument step of the alerts tick
+  // (services/jobs/src/instrument), not per point here: one point cannot tell them apart.
   if (status === ST_STOPPED) {
     flags.push('not-running');
     return { row: base, flags, modelValid: false, secondLaw: false, impossible: false };
