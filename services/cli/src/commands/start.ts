@@ -1,13 +1,56 @@
 import { readFile } from 'node:fs/promises';
-import { buildApp } from '@isentrope/api';
-import { prepareDemo, startDemoFeed } from '@isentrope/demo';
-import { startJobs } from '@isentrope/jobs';
+import { buildApp, createMetricsRegistry, type MountedPlugin } from '@isentrope/api';
+import { type PreparedDemo, prepareDemo, startDemoFeed } from '@isentrope/demo';
+import { httpPushRoutes, sha256Hex, startIngest } from '@isentrope/ingest';
+import { backfill, backfillAnalysis, runAlertsOnce, startJobs } from '@isentrope/jobs';
 import { migrate, openDatabase } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
 import type { Config } from '../config.js';
 import { Lifecycle } from '../lifecycle.js';
 import { createProgress } from '../progress.js';
+
+const DAY = 86_400_000;
+
+/**
+ * Results for the demo history just written: the last two weeks on the 1-minute grid the live
+ * job uses, older history on a 15-minute grid (a year-long trend shows no difference, and the
+ * first start stays short); then baselines, drift and the alert states as of now.
+ */
+async function computeDemoHistory(
+  pool: pg.Pool,
+  demo: { historyEnd: number; span: { start: number }; createdHistory: boolean },
+  log: Logger,
+): Promise<void> {
+  const end = demo.historyEnd;
+  const from = demo.createdHistory ? demo.span.start : end - 7 * DAY;
+  const fineFrom = Math.max(from, Math.floor((end - 14 * DAY) / 900_000) * 900_000);
+  const progress = createProgress('demo results', log);
+  const fineShare = (end - fineFrom) * 15;
+  const weight = fineShare + (fineFrom - from);
+  if (fineFrom > from) {
+    await backfill(pool, {
+      from,
+      to: fineFrom,
+      gridMs: 900_000,
+      onProgress: (done, total) =>
+        progress.update((total === 0 ? 1 : done / total) * ((fineFrom - from) / weight)),
+    });
+  }
+  await backfill(pool, {
+    from: fineFrom,
+    to: end,
+    advanceWatermark: true,
+    onProgress: (done, total) =>
+      progress.update((fineFrom - from) / weight + (total === 0 ? 1 : done / total) * (fineShare / weight)),
+  });
+  progress.done();
+  const analysis = createProgress('demo drift and alerts', log);
+  await backfillAnalysis(pool, { nowMs: end });
+  analysis.update(0.6);
+  await runAlertsOnce(pool, { nowMs: end });
+  analysis.done();
+}
 
 /** The demo runs when asked, or by default while the database holds no plant but the demo's. */
 async function wantDemo(config: Config, pool: pg.Pool): Promise<boolean> {
@@ -47,17 +90,20 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
     throw error;
   }
 
-  if (await wantDemo(config, db.pool)) {
+  const demoOn = await wantDemo(config, db.pool);
+  let demo: PreparedDemo | undefined;
+  if (demoOn) {
     const demoLog = logger.child({ module: 'demo' });
     demoLog.info('loading the invented demo plant "Harbourside Energy Centre" (ISENTROPE_DEMO=off to skip)');
     const progress = createProgress('demo history', demoLog);
-    const demo = await prepareDemo({
+    demo = await prepareDemo({
       pool: db.pool,
       dataDir: config.dataDir,
       days: config.demoDays,
       onHistoryProgress: (done) => progress.update(done),
     });
     progress.done(`${demo.samplesWritten} samples`);
+    if (demo.samplesWritten > 0) await computeDemoHistory(db.pool, demo, demoLog);
     const feed = await startDemoFeed(demo, {
       dataDir: config.dataDir,
       pool: db.pool,
@@ -68,6 +114,32 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
       { opcua: demo.opcuaEndpoint, drop: demo.dropFolder, plantFile: `${config.dataDir}/demo/plant.yaml` },
       'demo plant live: OPC UA simulator and CSV drops running',
     );
+  }
+
+  const metrics = createMetricsRegistry();
+  const plugins: MountedPlugin[] = [];
+  if (config.runIngest) {
+    const ingest = await startIngest({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger,
+      dataDir: config.dataDir,
+      // The demo's plant file carries its sources; otherwise they come from the sources table.
+      ...(demo === undefined ? {} : { plant: demo.plant }),
+    });
+    lifecycle.add('ingest', () => ingest.stop());
+    metrics.gauge('isentrope_ingest_sources', 'Ingest sources running (1) or not (0), by source', () =>
+      ingest.health().sources.map((source) => ({
+        labels: { source: source.source, kind: source.kind },
+        value: source.state === 'running' || source.state === 'connected' ? 1 : 0,
+      })),
+    );
+    const token = config.ingestToken;
+    if (token !== undefined) {
+      plugins.push(async (scope) => {
+        await scope.register(httpPushRoutes, { ...ingest.httpPushOptions(sha256Hex(token)), prefix: '/api' });
+      });
+    }
   }
 
   if (config.runJobs) {
@@ -89,12 +161,20 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
     lifecycle.add('jobs', () => jobs.stop());
   }
 
+  // Sign-in is required unless said otherwise; the demo on this machine alone opens as an engineer.
+  const loopback = config.host === '127.0.0.1' || config.host === 'localhost' || config.host === '::1';
+  const anonymous = config.anonymousRole ?? (demoOn && loopback ? 'engineer' : 'none');
   const app = await buildApp({
     pool: db.pool,
     database: { kind: db.kind, displayUrl: db.displayUrl },
     logger,
     version: await packageVersion(),
     startedAt,
+    ...(anonymous === 'none' ? {} : { anonymousRole: anonymous }),
+    ...(config.adminPassword === undefined ? {} : { adminPassword: config.adminPassword }),
+    ...(config.energyPrice === undefined ? {} : { energyPrice: config.energyPrice }),
+    metrics,
+    plugins,
   });
   lifecycle.add('http', () => app.close());
   await app.listen({ host: config.host, port: config.port });

@@ -245,6 +245,12 @@ export interface BackfillOptions extends ComputeOptions {
   readonly chunkMs?: number;
   /** Machines computed at the same time (their database waits overlap); default 3. */
   readonly concurrency?: number;
+  /**
+   * Move each machine's incremental watermark to the end of the range (when it is behind),
+   * so the every-minute job carries on from there instead of redoing the range; for a first
+   * load of history. Off by default: a backfill normally repairs a range without moving it.
+   */
+  readonly advanceWatermark?: boolean;
 }
 
 export interface BackfillStats {
@@ -300,5 +306,20 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
     }
   };
   await Promise.all(Array.from({ length: lanes }, lane));
+  if (options.advanceWatermark === true) {
+    const marks = await readComputeWatermarks(
+      pool,
+      machines.map((m) => m.row.id),
+    );
+    await writeComputeWatermarks(
+      pool,
+      machines
+        .filter((m) => {
+          const mark = marks.get(m.row.id);
+          return mark === undefined || mark.configHash !== m.configHash || mark.watermarkMs < toMs;
+        })
+        .map((m) => ({ machineId: m.row.id, configHash: m.configHash, watermarkMs: toMs })),
+    );
+  }
   return { machines: rows.length, points: done, ms: Date.now() - started };
 }
