@@ -223,7 +223,7 @@ export function machineTruth(span: DemoSpan, machine: DemoMachineId, t: number):
     case 'ac-1': {
       const pIn = DEMO_AMBIENT_PRESSURE - 800 - 200 * wander(41, seconds, 86_400);
       const TIn = ambientTemperature(t);
-      const pOut = 4.5e5 + 0.05e5 * wander(42, seconds, 1800);
+      const pOut = 4.5e5 + 0.05e5 * wander(42, seconds, 2 * 3600);
       const normalFlow = 1800 + 600 * (0.5 + 0.5 * wander(43, seconds, 4 * 3600)); // [Nm3/h]
       const massFlow = (normalFlow / 3600) * 1.2929; // air at 0 degC, 101.325 kPa [kg/m3], from memory
       const q = normalFlow / 2400;
@@ -268,7 +268,7 @@ export function machineTruth(span: DemoSpan, machine: DemoMachineId, t: number):
     case 'idf-1':
     case 'idf-2': {
       const key = machine === 'idf-1' ? 61 : 62;
-      const volumeFlow = (45_000 + 45_000 * demand + 3000 * wander(key, seconds, 1800)) / 3600; // [m3/s]
+      const volumeFlow = (45_000 + 45_000 * demand + 1500 * wander(key, seconds, 4 * 3600)) / 3600; // [m3/s]
       const pIn = DEMO_AMBIENT_PRESSURE - 1800 * (volumeFlow / 25) ** 2;
       const pOut = DEMO_AMBIENT_PRESSURE + 600 * (volumeFlow / 25) ** 2;
       const TIn = 413.15 + 5 * wander(key + 2, seconds, 7200);

@@ -23,6 +23,7 @@ import {
   alignTags,
   detectSteadyState,
   flagNames,
+  type SteadyTagInput,
   type TagColumns,
   type TagValidation,
   VALID_BAD_QUALITY,
@@ -558,11 +559,10 @@ function computeSegment(
     if (e.impossible) impossible[j - g0] = 1;
   }
   const validation = validateAligned(view, validations, { secondLaw, impossible });
-  const steadyInput = machine.keyRoles.map((role) => ({
-    role,
-    value: (ch.si.get(role) as Float64Array).subarray(g0, g1),
-  }));
-  const steady = detectSteadyState(steadyInput, { valid: validation.valid });
+  const steadyInput = machine.keyRoles.map((role) =>
+    coarseSteadyInput(role, (ch.si.get(role) as Float64Array).subarray(g0, g1), o.stepMs),
+  );
+  const steady = detectSteadyState(steadyInput, { valid: validation.valid, t: view.t });
 
   const tagResults = [...validation.tags];
   const machineId = machine.row.id;
@@ -834,6 +834,35 @@ function evaluatePoint(
     secondLaw,
     impossible: impossibleFlag,
   };
+}
+
+/**
+ * Steady-state test of one key tag. On the 1-minute grid (and finer): the Cao and Rhinehart (1995)
+ * R-statistic. Its filters assume nearly independent noise between points, which a coarse grid
+ * (a history computed every 5 or 15 minutes) does not give: slow process swings then read as
+ * transients everywhere. So on a grid coarser than a minute the windowed slope-and-spread test
+ * judges instead, over the trailing hour: a change of at most 3 % and a residual spread of at
+ * most 1.5 % of the tag's median level in the segment (common practice, no source).
+ */
+export function coarseSteadyInput(role: string, value: Float64Array, stepMs: number): SteadyTagInput {
+  if (stepMs <= 60_000) return { role, value };
+  const level = Math.abs(medianOfFinite(value));
+  const window = Math.max(3, Math.round(3_600_000 / stepMs) + 1);
+  return {
+    role,
+    value,
+    cao: { rCrit: Number.POSITIVE_INFINITY, warmup: 1, padPoints: 0 },
+    slopeSpread: { window, maxChange: 0.03 * level, maxSpread: 0.015 * level },
+  };
+}
+
+function medianOfFinite(x: ArrayLike<number>): number {
+  const v: number[] = [];
+  for (let i = 0; i < x.length; i++) if (Number.isFinite(x[i] as number)) v.push(x[i] as number);
+  if (v.length === 0) return Number.NaN;
+  v.sort((a, b) => a - b);
+  const m = v.length >> 1;
+  return v.length % 2 === 1 ? (v[m] as number) : ((v[m - 1] as number) + (v[m] as number)) / 2;
 }
 
 const NO_FLAGS: readonly string[] = [];

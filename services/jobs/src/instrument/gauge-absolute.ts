@@ -267,15 +267,24 @@ async function machineStep(
     // Steps 1-3: the detector over the window, then the stored findings.
     const value = new Float64Array(n);
     for (let i = 0; i < n; i++) value[i] = running[i] === 1 ? (p[i] as number) : Number.NaN;
-    let findings: GaugeAbsoluteFinding[] = [];
-    if (n >= 2 * o.windowPoints) {
+    const findings: GaugeAbsoluteFinding[] = [];
+    for (const [a, b, spacing] of uniformStretches(t)) {
+      // The detector's windows are counted in points: keep them near windowPoints minutes long
+      // on a coarser grid (a history computed every 15 minutes), where slow process swings
+      // would otherwise bend a window of 15 points (common practice, no source).
+      const windowPoints = Math.max(
+        4,
+        Math.min(o.windowPoints, Math.round((o.windowPoints * o.stepMs) / spacing)),
+      );
+      if (b - a < 2 * windowPoints) continue;
       try {
-        findings = detectGaugeAbsoluteStep(
-          { t, value, ambientPressure: ambient },
-          { windowPoints: o.windowPoints },
+        const found = detectGaugeAbsoluteStep(
+          { t: t.subarray(a, b), value: value.subarray(a, b), ambientPressure: ambient },
+          { windowPoints },
         );
+        for (const f of found) findings.push({ ...f, index: f.index + a });
       } catch (error) {
-        // Too few running points in the window: nothing new to find this run.
+        // Too few running points in the stretch: nothing new to find there this run.
         if (!(error instanceof MonitorError && error.code === 'MONITOR_TOO_FEW_POINTS')) throw error;
       }
     }
@@ -397,4 +406,21 @@ export async function runGaugeAbsoluteOnce(
     }
   }
   return { machines: machines.length, standing, dismissed, reverted, flaggedRows, notPositiveRows, skipped };
+}
+
+/**
+ * [start, end, spacing] of the runs of equally spaced times (results on one grid) in t; two
+ * neighbouring runs share their boundary point.
+ */
+export function uniformStretches(t: ArrayLike<number>): [number, number, number][] {
+  const out: [number, number, number][] = [];
+  let a = 0;
+  while (a < t.length - 1) {
+    const spacing = (t[a + 1] as number) - (t[a] as number);
+    let b = a + 2;
+    while (b < t.length && (t[b] as number) - (t[b - 1] as number) === spacing) b++;
+    out.push([a, b, spacing]);
+    a = b - 1;
+  }
+  return out;
 }
