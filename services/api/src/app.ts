@@ -10,7 +10,6 @@ import swaggerUi from '@fastify/swagger-ui';
 import Fastify, {
   type FastifyBaseLogger,
   type FastifyInstance,
-  type FastifyPluginAsync,
   type RawReplyDefaultExpression,
   type RawRequestDefaultExpression,
   type RawServerDefault,
