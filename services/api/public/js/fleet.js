@@ -1,5 +1,13 @@
 import { api, el, frame, pct, power, signed, when } from './common.js';
 
+/** Which efficiency is trended per machine kind (see services/jobs compute: pumps and fans with a power tag use it). */
+const EFFICIENCY_KIND = {
+  turbine: 'isentropic',
+  compressor: 'isentropic',
+  pump: 'hydraulic',
+  fan: 'fan (air power / shaft)',
+};
+
 const KIND = { turbine: 'steam turbine', compressor: 'compressor', pump: 'pump', fan: 'fan' };
 
 function card(m) {
@@ -29,7 +37,7 @@ function card(m) {
       'div',
       { class: 'figure', 'data-field': 'efficiency' },
       `${pct(c?.efficiency)} `,
-      el('small', { text: '% isentropic' }),
+      el('small', { text: `% ${EFFICIENCY_KIND[m.kind] ?? 'efficiency'}` }),
     ),
     el(
       'div',

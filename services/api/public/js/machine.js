@@ -18,8 +18,12 @@ function kpi(label, value, field) {
   );
 }
 
+/** Set by header(): which efficiency the trend shows depends on the machine kind. */
+let machineKind = 'turbine';
+
 async function header() {
   const [machine, fleet] = await Promise.all([api(`/api/machines/${id}`), api('/api/fleet')]);
+  machineKind = machine.kind;
   const f = fleet.items.find((m) => m.id === id);
   document.getElementById('title').textContent = machine.name;
   document.title = `${machine.name} · Isentrope`;
@@ -94,7 +98,11 @@ async function trend(fromMs, toMs) {
   if (effPlot === undefined) {
     effPlot = new uPlot(
       opts(
-        'Isentropic efficiency [%]',
+        machineKind === 'pump'
+          ? 'Hydraulic efficiency [%]'
+          : machineKind === 'fan'
+            ? 'Fan efficiency [%]'
+            : 'Isentropic efficiency [%]',
         [
           { label: 'efficiency', stroke: '#1f2326', width: 1.5 },
           { label: 'baseline', stroke: '#777', dash: [6, 4] },

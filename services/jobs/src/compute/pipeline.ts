@@ -184,8 +184,13 @@ export interface ResultRow {
 /** Instrument-fault flags carry this prefix, so they stay apart from notes on the figures. */
 export const FAULT_PREFIX = 'fault:';
 
-/** |p_out/p_in - 1| below which the machine counts as stopped (common practice, no source). Fans run on less: see report. */
+/**
+ * |p_out/p_in - 1| below which the machine counts as stopped (common practice, no source): 2 %
+ * for turbines, compressors and pumps; fans run on a pressure rise of a few kPa (a ratio of
+ * 1.01 to 1.05), so for them 0.2 % (about 2 mbar at atmospheric pressure).
+ */
 const MIN_RUNNING_RATIO = 0.02;
+const MIN_RUNNING_RATIO_FAN = 0.002;
 /** Mass flow below this fraction of the rated flow: stopped (common practice, no source). */
 const MIN_RUNNING_FLOW = 0.05;
 
@@ -307,6 +312,7 @@ function prepareChunk(
   }
   const kind = machine.row.kind;
   const mRated = machine.ratedMassFlow;
+  const minRatio = kind === 'fan' ? MIN_RUNNING_RATIO_FAN : MIN_RUNNING_RATIO;
   const driverEfficiency = machine.row.driverEfficiency ?? undefined;
   const tagOf = (role: string): PreparedTag => machine.tags.get(role) as PreparedTag;
   for (let i = 0; i < n; i++) {
@@ -320,9 +326,8 @@ function prepareChunk(
     x[o8 + IN_T_IN] = b;
     x[o8 + IN_P_OUT] = c;
     x[o8 + IN_T_OUT] = d;
-    // At rest (no pressure change worth the name) there is no efficiency to judge: a machine
-    // within 2 % of a unit pressure ratio is taken as stopped (common practice, no source).
-    if (Math.abs(c / a - 1) < MIN_RUNNING_RATIO) {
+    // At rest (no pressure change worth the name) there is no efficiency to judge.
+    if (Math.abs(c / a - 1) < minRatio) {
       status[i] = ST_STOPPED;
       continue;
     }
