@@ -6,10 +6,12 @@
  * Why not csv-parse's own record splitting: measured with csv-parse 7 and
  * skip_records_with_error, a broken quote swallows the lines after it and an over-long
  * record is reported once per extra byte. Plant CSV files hold one record per line, so
- * records are split at line ends here and fields by splitCsvLine below; a quote left open
+ * records are split at line ends here, and the fields of a line with quotes by csv-parse (splitCsvLine below); a quote left open
  * at the end of a line is a syntax error of that line only.
  */
+
 import type { Readable } from 'node:stream';
+import { CsvError, parse as parseCsv } from 'csv-parse/sync';
 
 export type Line =
   | { readonly kind: 'text'; readonly line: number; readonly text: string }
@@ -114,60 +116,29 @@ export type SplitResult =
   | { readonly ok: true; readonly fields: string[] }
   | { readonly ok: false; readonly problem: string; readonly column: number };
 
+/** Our words for csv-parse's quoting errors (the quarantine reason a user reads). */
+const QUOTE_PROBLEMS: Readonly<Record<string, string>> = {
+  CSV_QUOTE_NOT_CLOSED: 'a quoted field is not closed before the end of the line',
+  CSV_INVALID_CLOSING_QUOTE: 'unexpected text after a closing quote',
+  INVALID_OPENING_QUOTE: 'a quote inside an unquoted field',
+};
+
 /**
  * Splits one CSV line into fields (RFC 4180 quoting: a field in double quotes may hold the
- * delimiter and doubled quotes). Unquoted fields are trimmed of spaces.
+ * delimiter and doubled quotes), fields trimmed of spaces. A line with quotes goes through
+ * csv-parse; one line is one record here (records are cut at line ends by readLines, so a broken
+ * quote costs only its own line).
  */
 export function splitCsvLine(text: string, delimiter: string): SplitResult {
   if (!text.includes('"')) return { ok: true, fields: text.split(delimiter).map((f) => f.trim()) };
-  const fields: string[] = [];
-  let i = 0;
-  const n = text.length;
-  for (;;) {
-    while (i < n && text[i] === ' ') i++;
-    if (text[i] === '"') {
-      let value = '';
-      i++;
-      for (;;) {
-        const q = text.indexOf('"', i);
-        if (q === -1)
-          return {
-            ok: false,
-            problem: 'a quoted field is not closed before the end of the line',
-            column: fields.length + 1,
-          };
-        value += text.slice(i, q);
-        if (text[q + 1] === '"') {
-          value += '"';
-          i = q + 2;
-          continue;
-        }
-        i = q + 1;
-        break;
-      }
-      while (i < n && text[i] === ' ') i++;
-      fields.push(value);
-      if (i >= n) return { ok: true, fields };
-      if (!text.startsWith(delimiter, i)) {
-        return {
-          ok: false,
-          problem: `unexpected text after a closing quote at character ${i + 1}`,
-          column: fields.length,
-        };
-      }
-      i += delimiter.length;
-      if (i >= n) {
-        fields.push('');
-        return { ok: true, fields };
-      }
-    } else {
-      const d = text.indexOf(delimiter, i);
-      const raw = d === -1 ? text.slice(i) : text.slice(i, d);
-      if (raw.includes('"'))
-        return { ok: false, problem: 'a quote inside an unquoted field', column: fields.length + 1 };
-      fields.push(raw.trim());
-      if (d === -1) return { ok: true, fields };
-      i = d + delimiter.length;
+  try {
+    const records = parseCsv(text, { delimiter, trim: true, relax_column_count: true }) as string[][];
+    return { ok: true, fields: records[0] ?? [] };
+  } catch (error) {
+    if (error instanceof CsvError) {
+      const column = typeof error.column === 'number' ? error.column + 1 : 1;
+      return { ok: false, problem: QUOTE_PROBLEMS[error.code] ?? error.message, column };
     }
+    throw error;
   }
 }
