@@ -263,6 +263,18 @@ export const sourceSchema = z.discriminatedUnion('kind', [
     layout: z.enum(['long', 'wide']).default('wide'),
     /** Zone of timestamps without offset; defaults to the site's. */
     timeZone: timeZoneSchema.optional(),
+    /** Field delimiter, e.g. ";" (default ","). */
+    delimiter: z.string().min(1).max(4).optional(),
+    /** Values written "12,5": the comma is the decimal mark. */
+    decimalComma: z.boolean().optional(),
+    /** Column header as the file writes it -> tag name, for files whose headers differ. */
+    aliases: z.record(z.string().min(1), z.string().min(1)).optional(),
+    /** Wide files: the line after the header gives each column's unit (checked against the tag's). */
+    unitsRow: z.boolean().optional(),
+    /** Time formats tried in order on each file's first timestamp: iso, ymd, dmy, mdy12, mdy, epoch-s, epoch-ms, or a luxon format such as "dd.MM.yyyy HH:mm". */
+    timeFormats: z.array(z.string().min(1)).min(1).optional(),
+    /** The repeated daylight-saving hour: resolved by row order (default) or quarantined. */
+    ambiguousTime: z.enum(['order', 'quarantine']).optional(),
   }),
   z.strictObject({
     kind: z.literal('opcua'),

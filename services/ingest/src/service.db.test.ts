@@ -76,7 +76,8 @@ describe('startIngest', () => {
           { name: 'ST1.PI-100', role: 'other', unit: 'bara' },
           { name: 'ST1.TI-100', role: 'other', unit: 'degC' },
         ],
-        sources: [{ kind: 'csv', id: 'drop-b', folder, layout: 'long' }],
+        // The file's format comes from the plant file: ';' between fields, ',' as decimal mark.
+        sources: [{ kind: 'csv', id: 'drop-b', folder, layout: 'long', delimiter: ';', decimalComma: true }],
       }),
       'plant.json',
     );
@@ -86,7 +87,7 @@ describe('startIngest', () => {
       logger,
       dataDir: join(dir, 'data'),
       plant,
-      csv: { 'drop-b': { pollMs: 100, delimiter: ';', decimalComma: true } },
+      csv: { 'drop-b': { pollMs: 100 } },
     });
     try {
       const before = await count();

@@ -99,9 +99,16 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
     if (source.kind === 'csv') {
       const { pollMs, ...extras } = options.csv?.[source.id] ?? {};
       // Checked here, so a bad option stops the start instead of failing every file.
+      // The plant file's format settings, then any given in code (tests, tools) on top.
+      const fromPlant = Object.fromEntries(
+        (['delimiter', 'decimalComma', 'aliases', 'unitsRow', 'timeFormats', 'ambiguousTime'] as const)
+          .filter((key) => source[key] !== undefined)
+          .map((key) => [key, source[key]]),
+      );
       const format = csvFormatSchema.safeParse({
         layout: source.layout,
         timeZone: source.timeZone ?? siteZone,
+        ...fromPlant,
         ...extras,
       });
       if (!format.success) {
