@@ -282,7 +282,21 @@ export const sourceSchema = z.discriminatedUnion('kind', [
     endpoint: z.string().regex(/^opc\.tcp:\/\//, 'expected an endpoint URL starting with opc.tcp://'),
     /** Sampling interval [s]. */
     samplingInterval: z.number().positive().default(1),
+    /** Subscription publishing interval [s]; default the sampling interval. */
+    publishingInterval: z.number().positive().optional(),
     securityMode: z.enum(['None', 'Sign', 'SignAndEncrypt']).default('None'),
+    securityPolicy: z
+      .enum(['None', 'Basic256Sha256', 'Aes128_Sha256_RsaOaep', 'Aes256_Sha256_RsaPss'])
+      .optional(),
+    /** The client's own certificate and private key (PEM), for Sign and SignAndEncrypt. */
+    certificateFile: z.string().min(1).optional(),
+    privateKeyFile: z.string().min(1).optional(),
+    /** Sign in with a user name; the password is read from the environment variable named here. */
+    userName: z.string().min(1).optional(),
+    passwordEnv: z
+      .string()
+      .regex(/^[A-Z_][A-Z0-9_]*$/, 'expected the name of an environment variable, e.g. OPCUA_PASSWORD')
+      .optional(),
   }),
 ]);
 

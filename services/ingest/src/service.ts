@@ -168,10 +168,11 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
           id: source.id,
           endpoint: source.endpoint,
           items,
-          // The plant file gives the sampling interval in seconds.
+          // The plant file gives the intervals in seconds.
           samplingIntervalMs: source.samplingInterval * 1000,
-          publishingIntervalMs: source.samplingInterval * 1000,
+          publishingIntervalMs: (source.publishingInterval ?? source.samplingInterval) * 1000,
           securityMode: source.securityMode,
+          ...opcuaSecurityFromPlant(source),
           pkiDir: join(options.dataDir, 'pki'),
           ...extras,
         },
@@ -223,4 +224,30 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
       log.info('ingest stopped');
     },
   };
+}
+
+/** The plant file's OPC UA security settings; a password only ever comes from the environment. */
+function opcuaSecurityFromPlant(source: Extract<Source, { kind: 'opcua' }>): OpcuaSourceExtras {
+  const out: {
+    securityPolicy?: OpcuaSourceOptions['securityPolicy'];
+    certificateFile?: string;
+    privateKeyFile?: string;
+    userName?: string;
+    password?: string;
+  } = {};
+  if (source.securityPolicy !== undefined) out.securityPolicy = source.securityPolicy;
+  if (source.certificateFile !== undefined) out.certificateFile = source.certificateFile;
+  if (source.privateKeyFile !== undefined) out.privateKeyFile = source.privateKeyFile;
+  if (source.userName !== undefined) out.userName = source.userName;
+  if (source.passwordEnv !== undefined) {
+    const password = process.env[source.passwordEnv];
+    if (password === undefined || password === '')
+      throw new IngestError(
+        'INGEST_BAD_OPTIONS',
+        `OPC UA source ${source.id}: environment variable ${source.passwordEnv} (named by passwordEnv) is not set`,
+        { source: source.id, passwordEnv: source.passwordEnv },
+      );
+    out.password = password;
+  }
+  return out;
 }
