@@ -20,11 +20,20 @@ const plugin: FastifyPluginAsync<{ ctx: ApiContext }> = async (app: FastifyInsta
 
   app.addHook('preHandler', async (request) => {
     const header = request.headers.authorization;
+    const need =
+      request.routeOptions.config.role ??
+      (request.url.startsWith('/api/') && !request.url.startsWith('/api/docs') ? 'viewer' : 'public');
     let principal: Principal | undefined;
     if (header !== undefined) {
       const match = /^Bearer\s+(\S+)$/i.exec(header);
       const secret = match?.[1];
-      if (secret === undefined || !secret.startsWith(TOKEN_PREFIX)) throw new ApiError('API_BAD_TOKEN');
+      const known = secret?.startsWith(TOKEN_PREFIX) === true;
+      // A public route may carry a bearer token of its own (the ingest push token): not ours to judge.
+      if (!known && need === 'public') {
+        request.principal = anonymous;
+        return;
+      }
+      if (secret === undefined || !known) throw new ApiError('API_BAD_TOKEN');
       principal = await principalForSecret(ctx.pool, secret, 'token');
       if (principal === undefined) throw new ApiError('API_BAD_TOKEN');
     } else {
@@ -34,9 +43,6 @@ const plugin: FastifyPluginAsync<{ ctx: ApiContext }> = async (app: FastifyInsta
       // A stale cookie falls back to anonymous access (or to 401 below), never to an error page.
     }
     request.principal = principal ?? anonymous;
-    const need =
-      request.routeOptions.config.role ??
-      (request.url.startsWith('/api/') && !request.url.startsWith('/api/docs') ? 'viewer' : 'public');
     if (need !== 'public') requireRole(request.principal, need);
   });
 };

@@ -137,6 +137,10 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
     const token = config.ingestToken;
     if (token !== undefined) {
       plugins.push(async (scope) => {
+        // The push routes check their own bearer token (ISENTROPE_INGEST_TOKEN), not API sign-in.
+        scope.addHook('onRoute', (route) => {
+          route.config = { ...route.config, role: 'public' };
+        });
         await scope.register(httpPushRoutes, { ...ingest.httpPushOptions(sha256Hex(token)), prefix: '/api' });
       });
     }
