@@ -114,7 +114,8 @@ export async function ingestCsvFile(
   const format = csvFormatSchema.parse(options.format ?? {});
   const { pool, source } = options;
   const ownSink = options.sink === undefined;
-  const sink: SampleSink = options.sink ?? new SampleWriter(pool);
+  // Two batches in flight keep the database busy; more only hold memory (a file waits anyway).
+  const sink: SampleSink = options.sink ?? new SampleWriter(pool, { maxQueuedBatches: 2 });
   const folder = dirname(path);
   const processedDir = options.processedDir === undefined ? join(folder, 'processed') : options.processedDir;
   const rejectedDir = options.rejectedDir === undefined ? join(folder, 'rejected') : options.rejectedDir;
