@@ -1,3 +1,4 @@
+// Expected values: hand calculations from the model's own definitions (common practice, no source).
 import { describe, expect, it } from 'vitest';
 import { BadInputError } from './errors.js';
 import { incompressibleLiquid } from './liquid.js';

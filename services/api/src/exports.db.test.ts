@@ -1,3 +1,4 @@
+// Expected figures: hand calculations from the export's definitions over invented seeded rows (common practice, no source).
 import { buildMonthlyReport, CAUTION } from '@isentrope/monitor';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
