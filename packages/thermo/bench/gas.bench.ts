@@ -6,26 +6,7 @@
  * Run: npx tsx packages/thermo/bench/gas.bench.ts
  */
 import { dryAir, type GasModel, naturalGas } from '../src/gas/index.js';
-
-/** Calls of f per CPU-second, counted over about `seconds` of CPU time after a warm-up. */
-function rate(f: (i: number) => number, seconds = 1.5): number {
-  let sink = 0;
-  for (let i = 0; i < 20_000; i++) sink += f(i);
-  let n = 0;
-  const start = process.cpuUsage();
-  let used = 0;
-  while (used < seconds * 1e6) {
-    for (let k = 0; k < 2_000; k++, n++) sink += f(n);
-    const c = process.cpuUsage(start);
-    used = c.user + c.system;
-  }
-  if (!Number.isFinite(sink)) throw new Error('bench produced a non-finite result');
-  return n / (used / 1e6);
-}
-
-function emit(bench: string, value: number, unit: string): void {
-  process.stdout.write(`${JSON.stringify({ bench, value: Number(value.toPrecision(3)), unit })}\n`);
-}
+import { emit, rate } from './harness.js';
 
 /**
  * Inputs spread over 97 pressures x 101 temperatures (or entropies/enthalpies) around p0 and

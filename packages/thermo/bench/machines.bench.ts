@@ -7,29 +7,7 @@ import { evaluateMachine } from '../src/machines/index.js';
 import type { MachineInput } from '../src/machines/types.js';
 import { water } from '../src/steam/index.js';
 import { evaluateMachineWithUncertainty, type MachineUncertainties } from '../src/uncertainty/index.js';
-
-/**
- * Runs f(i) for about `seconds` of CPU time after a warm-up and returns calls per CPU-second:
- * CPU time, not wall time, because the machine is shared and "one core" is what is asked.
- */
-function rate(f: (i: number) => number, seconds = 2): number {
-  let sink = 0;
-  for (let i = 0; i < 20_000; i++) sink += f(i);
-  let n = 0;
-  const start = process.cpuUsage();
-  let used = 0;
-  while (used < seconds * 1e6) {
-    for (let k = 0; k < 2_000; k++, n++) sink += f(n);
-    const c = process.cpuUsage(start);
-    used = c.user + c.system;
-  }
-  if (!Number.isFinite(sink)) throw new Error('bench produced a non-finite result');
-  return n / (used / 1e6);
-}
-
-function emit(bench: string, value: number, unit: string): void {
-  process.stdout.write(`${JSON.stringify({ bench, value: Number(value.toPrecision(4)), unit })}\n`);
-}
+import { emit, rate } from './harness.js';
 
 // Steam turbine, superheated exhaust (dry outlet, so three IF97 state points: PT in, PT out, PS out).
 const steamCase = (i: number): MachineInput => ({

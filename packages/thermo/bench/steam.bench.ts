@@ -12,26 +12,16 @@ import {
   temperaturePH,
   waterPT,
 } from '../src/steam/index.js';
+import { emit, rate } from './harness.js';
 
 const N = 4096;
 
-/** Runs f(i) for about `seconds` of CPU time after a warm-up; prints calls per CPU-second. */
-function rate(bench: string, f: (i: number) => number, seconds = 2): void {
-  let sink = 0;
-  for (let i = 0; i < 50_000; i++) sink += f(i & (N - 1));
-  let n = 0;
-  const c0 = process.cpuUsage();
-  let used = 0;
-  while (used < seconds * 1e6) {
-    for (let i = 0; i < 10_000; i++) sink += f((n + i) & (N - 1));
-    n += 10_000;
-    const c = process.cpuUsage(c0);
-    used = c.user + c.system;
-  }
-  if (!Number.isFinite(sink)) throw new Error(`${bench} produced a non-finite value`);
-  const value = n / (used / 1e6);
-  process.stdout.write(
-    `${JSON.stringify({ bench, value: Number(value.toPrecision(3)), unit: 'evals/s' })}\n`,
+/** Calls per CPU-second of f over the N prepared inputs, printed as one figure. */
+function evals(bench: string, f: (i: number) => number): void {
+  emit(
+    bench,
+    rate((i) => f(i & (N - 1))),
+    'evals/s',
   );
 }
 
@@ -57,14 +47,14 @@ const [p1, t1] = inputs((r, r2) => [1e6 + r * 29e6, 290 + r2 * 160]);
 // Region 2: superheated steam 0.1..10 MPa, 600..850 K.
 const [p2, t2] = inputs((r, r2) => [0.1e6 + r * 9.9e6, 600 + r2 * 250]);
 
-rate('thermo.if97.pt_hs_region1', (i) => enthalpyPT(p1[i]!, t1[i]!) + entropyPT(p1[i]!, t1[i]!));
-rate('thermo.if97.pt_hs_region2', (i) => enthalpyPT(p2[i]!, t2[i]!) + entropyPT(p2[i]!, t2[i]!));
+evals('thermo.if97.pt_hs_region1', (i) => enthalpyPT(p1[i]!, t1[i]!) + entropyPT(p1[i]!, t1[i]!));
+evals('thermo.if97.pt_hs_region2', (i) => enthalpyPT(p2[i]!, t2[i]!) + entropyPT(p2[i]!, t2[i]!));
 const hs = new Float64Array(2);
-rate('thermo.if97.pt_hs_pair_region1', (i) => {
+evals('thermo.if97.pt_hs_pair_region1', (i) => {
   enthalpyEntropyPT(p1[i]!, t1[i]!, hs);
   return hs[0]! + hs[1]!;
 });
-rate('thermo.if97.pt_hs_pair_region2', (i) => {
+evals('thermo.if97.pt_hs_pair_region2', (i) => {
   enthalpyEntropyPT(p2[i]!, t2[i]!, hs);
   return hs[0]! + hs[1]!;
 });
@@ -72,7 +62,7 @@ rate('thermo.if97.pt_hs_pair_region2', (i) => {
 // h(p,s), superheated outcome: s of the region-2 states, exit pressure a third of the inlet.
 const sSup = Float64Array.from(p2, (p, i) => waterPT(p, t2[i]!).s);
 const pSup = Float64Array.from(p2, (p) => p / 3);
-rate('thermo.if97.h_ps_superheated', (i) => enthalpyPS(pSup[i]!, sSup[i]!));
+evals('thermo.if97.h_ps_superheated', (i) => enthalpyPS(pSup[i]!, sSup[i]!));
 
 // h(p,s), wet outcome: condenser 5..15 kPa, quality 0.80..0.98.
 const [pWet, xWet] = inputs((r, r2) => [5e3 + r * 10e3, 0.8 + r2 * 0.18]);
@@ -80,13 +70,13 @@ const sWet = Float64Array.from(pWet, (p, i) => {
   const l = saturatedLiquid(p);
   return l.s + xWet[i]! * (saturatedVapour(p).s - l.s);
 });
-rate('thermo.if97.h_ps_wet', (i) => enthalpyPS(pWet[i]!, sWet[i]!));
+evals('thermo.if97.h_ps_wet', (i) => enthalpyPS(pWet[i]!, sWet[i]!));
 
 // T(p,h) in regions 1 and 2.
 const h1 = Float64Array.from(p1, (p, i) => enthalpyPT(p, t1[i]!));
 const h2 = Float64Array.from(p2, (p, i) => enthalpyPT(p, t2[i]!));
-rate('thermo.if97.t_ph_region1', (i) => temperaturePH(p1[i]!, h1[i]!));
-rate('thermo.if97.t_ph_region2', (i) => temperaturePH(p2[i]!, h2[i]!));
+evals('thermo.if97.t_ph_region1', (i) => temperaturePH(p1[i]!, h1[i]!));
+evals('thermo.if97.t_ph_region2', (i) => temperaturePH(p2[i]!, h2[i]!));
 
 // The object path, for comparison.
-rate('thermo.if97.water_pt_object_region2', (i) => waterPT(p2[i]!, t2[i]!).h);
+evals('thermo.if97.water_pt_object_region2', (i) => waterPT(p2[i]!, t2[i]!).h);
