@@ -145,3 +145,73 @@ with open(OUT, 'w') as f:
     json.dump(doc, f, indent=0, separators=(',', ':'))
     f.write('\n')
 print('wrote %d single-phase and %d wet states to %s' % (len(points), len(wet), os.path.normpath(OUT)))
+
+
+# ---------------------------------------------------------------------------------------------
+# Machine cases: the steam states of the machine tests (a turbine and a feed pump whose inputs
+# follow common textbook examples), so their expected figures come from the reference library
+# and not from printed tables. Written to src/steam/fixtures/machine-cases.json; no random numbers.
+# ---------------------------------------------------------------------------------------------
+
+CASES_OUT = os.path.join(os.path.dirname(OUT), 'machine-cases.json')
+
+
+def state(p_pa, T, prop):
+    return {'p': p_pa, 'T': T, 'h': prop['h'] * 1e3, 's': prop['s'] * 1e3, 'v': prop['v']}
+
+
+def saturation(p_pa):
+    """Saturated liquid and vapour at p (regions 1 and 2, p below psat(623.15 K))."""
+    T = if97._TSat_P(p_pa / 1e6)
+    liq = if97._Region1(T, p_pa / 1e6)
+    vap = if97._Region2(T, p_pa / 1e6)
+    return {'p': p_pa, 'T': T, 'hf': liq['h'] * 1e3, 'hg': vap['h'] * 1e3, 'sf': liq['s'] * 1e3,
+            'sg': vap['s'] * 1e3, 'vf': liq['v']}
+
+
+def region1_T_ps(p_pa, s_target, T):
+    """Newton on iapws' region-1 entropy: dT = (s_target - s) T / cp, until s matches to 1e-13."""
+    for _ in range(50):
+        st = if97._Region1(T, p_pa / 1e6)
+        if abs(st['s'] * 1e3 - s_target) <= 1e-13 * abs(s_target):
+            return T
+        T += (s_target - st['s'] * 1e3) * T / (st['cp'] * 1e3)
+    raise RuntimeError('no convergence at p = %r Pa, s = %r J/(kg K)' % (p_pa, s_target))
+
+
+def region(p_pa, T):
+    return iapws.IAPWS97(P=p_pa / 1e6, T=T).region
+
+
+# Turbine: 3 MPa, 400 degC in; 50 kPa, 100 degC out (superheated); ideal outlet at (50 kPa, s_in).
+t_in = (3e6, 673.15)
+t_out = (50e3, 373.15)
+assert region(*t_in) == 2 and region(*t_out) == 2
+turbine_in = state(*t_in, if97._Region2(t_in[1], t_in[0] / 1e6))
+turbine_out = state(*t_out, if97._Region2(t_out[1], t_out[0] / 1e6))
+sat50 = saturation(50e3)
+x2s = (turbine_in['s'] - sat50['sf']) / (sat50['sg'] - sat50['sf'])
+assert 0 < x2s < 1
+turbine_out_s = {'p': 50e3, 'T': sat50['T'], 'x': x2s, 's': turbine_in['s'],
+                 'h': sat50['hf'] + x2s * (sat50['hg'] - sat50['hf'])}
+
+# Pump: liquid 0.05 K below saturation at 75 kPa, to 3 MPa; ideal outlet at (3 MPa, s_in).
+sat75 = saturation(75e3)
+p_in_T = sat75['T'] - 0.05
+pump_in = state(75e3, p_in_T, if97._Region1(p_in_T, 0.075))
+T2s = region1_T_ps(3e6, pump_in['s'], p_in_T)
+assert region(3e6, T2s) == 1
+pump_out_s = state(3e6, T2s, if97._Region1(T2s, 3.0))
+
+cases = {
+    'source': 'python3-iapws %s, iapws.iapws97 region functions (IAPWS R7-97(2012)); made by '
+              'packages/thermo/scripts/make-iapws-fixture.py' % iapws.__version__,
+    'units': {'p': 'Pa', 'T': 'K', 'h': 'J/kg', 's': 'J/(kg K)', 'v': 'm3/kg', 'x': '1'},
+    'saturation': [saturation(10e3), sat50, sat75],
+    'turbine': {'inlet': turbine_in, 'outlet': turbine_out, 'outletIsentropic': turbine_out_s},
+    'pump': {'inlet': pump_in, 'outletIsentropic': pump_out_s},
+}
+with open(CASES_OUT, 'w') as f:
+    json.dump(cases, f, indent=2)
+    f.write('\n')
+print('wrote the machine cases to %s' % os.path.normpath(CASES_OUT))

@@ -96,9 +96,9 @@ describe('starting temperature and the bracketed fallback', () => {
   });
 
   it('a target inside the step where the Peng-Robinson vapour root ends (propane, 3 MPa, ~342 K) is GasStateUndeterminedError, not a temperature', () => {
-    // Propane at 3 MPa boils near 342 K (NIST Webbook gives 355 K, from memory; Peng-Robinson's
-    // own step lies a little lower): between the liquid-like and vapour-like roots h jumps by
-    // about 180 kJ/kg, so an enthalpy halfway has no single-phase state.
+    // In Peng-Robinson, propane at 3 MPa changes from the liquid-like to the vapour-like root near
+    // 342 K (the model's own boiling point; the test needs no measured one): h jumps there by about
+    // 180 kJ/kg, so an enthalpy halfway has no single-phase state.
     const c3 = pengRobinsonMixture({ propane: 1 });
     const liquid = c3.statePT(3e6, 330);
     const vapour = c3.statePT(3e6, 360);

@@ -37,6 +37,11 @@ function molarMass(atoms: Partial<Record<Element, number>>): number {
  * Gases and Liquids, 5th ed. (2001), Appendix A, Table A.1 (Tc [K], Pc [bar], omega), written
  * here from memory of that table and not re-read against the printed page: a check against the
  * book is still owed. Pc is converted from bar (x 1e5).
+ * Partial cross-check (2026-12) against reference equations of state, which fix their own critical
+ * points: CH4 190.564 K, 45.992 bar, omega 0.01142 (Setzmann and Wagner 1991, as NIST REFPROP's
+ * METHANE.FLD lists them) agrees with the rounded values below; H2O 647.096 K, 220.64 bar (IAPWS-95,
+ * python3-iapws) agrees in Pc, while the Tc below is 0.04 K higher, a difference Peng-Robinson does
+ * not resolve. The other species are not yet checked.
  */
 function sp(
   id: SpeciesId,

@@ -172,14 +172,17 @@ describe('normal and standard volume flow', () => {
     expect(idealGasMolarVolume('normal')).toBeCloseTo(22.413_969_54e-3, 11);
   });
 
-  it('at 15 degC, 101.325 kPa it is 23.645 L/mol (from memory: 23.645 L/mol)', () => {
-    expect(idealGasMolarVolume('standard')).toBeCloseTo(23.645e-3, 6);
+  // R = N_A k from the two defining constants of the 2019 SI (exact; CODATA 2018 lists the same value).
+  const R_SI = 6.022_140_76e23 * 1.380_649e-23; // [J/(mol K)]
+
+  it('at 15 degC, 101.325 kPa it is R T/p = 23.645 L/mol (ideal gas, R exact in the 2019 SI)', () => {
+    expect(idealGasMolarVolume('standard')).toBeCloseTo((R_SI * 288.15) / 101_325, 10);
   });
 
-  it('1000 Nm3/h of air (M = 28.9647 g/mol) is 1292.3 kg/h (from memory: air density 1.2923 kg/Nm3)', () => {
+  it('1000 Nm3/h of air (M = 28.9647 g/mol) is q M p/(R T) at 0 degC, 101.325 kPa = 1292.3 kg/h (ideal gas)', () => {
     const qN = toSI(1000, 'Nm3/h');
     const mdot = normalVolumeFlowToMassFlow(qN, 0.028_964_7, 'normal');
-    expect(mdot * 3600).toBeCloseTo(1292.3, 1);
+    expect(mdot * 3600).toBeCloseTo((1000 * 0.028_964_7 * 101_325) / (R_SI * 273.15), 5);
   });
 
   it('Nm3/h and Sm3/h carry their reference and are not silently interchanged', () => {
