@@ -43,11 +43,16 @@ describe('binary COPY encoding', () => {
   });
 
   it("encodes instants before 2000 in two's complement, and refuses out-of-range integers", () => {
-    // 1969-07-20T20:17:40Z = -14,182,940 s since 1970 (from memory); 946,684,800 s from 1970 to 2000.
+    // 1969-07-20T20:17:40Z, counted by calendar arithmetic: 3 h 42 min 20 s left of 20 July, then
+    // 11 + 31 + 30 + 31 + 30 + 31 = 164 whole days to 1970-01-01, so 164 x 86,400 + 13,340 s before 1970;
+    // 1970 to 2000 is 30 years with 7 leap days (1972 ... 1996), 10,957 days.
+    const before1970 = 164n * 86_400n + (3n * 3600n + 42n * 60n + 20n);
+    const from1970To2000 = 10_957n * 86_400n;
     const t = Date.UTC(1969, 6, 20, 20, 17, 40);
+    expect(BigInt(t)).toBe(-before1970 * 1000n); // our count agrees with the ECMAScript clock
     const buf = encodeSamples([{ tagId: 1, time: t, value: 0, quality: 0 }]);
     expect(buf.readBigInt64BE(33)).toBe(BigInt(t - PG_EPOCH_MS) * 1000n);
-    expect(buf.readBigInt64BE(33)).toBe((-14_182_940n - 946_684_800n) * 1_000_000n);
+    expect(buf.readBigInt64BE(33)).toBe((-before1970 - from1970To2000) * 1_000_000n);
     expect(() => encodeSamples([{ tagId: 2 ** 31, time: t, value: 0, quality: 0 }])).toThrow(
       expect.objectContaining({ code: 'STORE_BAD_SAMPLE' }),
     );
