@@ -16,7 +16,7 @@
  *   one that reads absolute, still feeds a tag configured as gauge (a gauge/absolute mix-up);
  * - rare spikes on every tag.
  */
-import { dryAir, type Fluid, fromSI, naturalGas, water } from '@isentrope/thermo';
+import { dryAir, type Fluid, fromSI, naturalGas, normalVolumeFlowToMassFlow, water } from '@isentrope/thermo';
 import { normal, uniform, wander } from './random.js';
 
 export const DEMO_AMBIENT_PRESSURE = 101_300; // [Pa], the site's "1.013 bara"
@@ -53,6 +53,11 @@ export interface MachineTruth {
 }
 
 const air = dryAir();
+/**
+ * Density of that air at normal conditions (0 degC, 101.325 kPa) as an ideal gas [kg/m3]: M p/(R T), the
+ * same conversion the compute job applies to the Nm3/h flow tag, so truth and computed mass flow agree.
+ */
+const AIR_NORMAL_DENSITY = normalVolumeFlowToMassFlow(1, air.molarMass, 'normal');
 const gas = naturalGas({ CH4: 0.92, C2H6: 0.04, C3H8: 0.01, N2: 0.02, CO2: 0.01 }, 'peng-robinson');
 
 /** Fraction of the span at time t (may exceed 1 for live data past the story's end). */
@@ -225,7 +230,7 @@ export function machineTruth(span: DemoSpan, machine: DemoMachineId, t: number):
       const TIn = ambientTemperature(t);
       const pOut = 4.5e5 + 0.05e5 * wander(42, seconds, 2 * 3600);
       const normalFlow = 1800 + 600 * (0.5 + 0.5 * wander(43, seconds, 4 * 3600)); // [Nm3/h]
-      const massFlow = (normalFlow / 3600) * 1.2929; // air at 0 degC, 101.325 kPa [kg/m3], from memory
+      const massFlow = (normalFlow / 3600) * AIR_NORMAL_DENSITY;
       const q = normalFlow / 2400;
       const eta = 0.8 - 0.05 * (1 - q) ** 2 - loss / 100;
       const { inlet, outlet } = compressionOutlet(air, pIn, TIn, pOut, eta);
@@ -337,7 +342,7 @@ function machineTags(machine: DemoMachineId): DemoTag[] {
         : { in: 'barg', out: 'barg' };
   const flow =
     machine === 'ac-1'
-      ? { unit: 'Nm3/h', noise: 0.01, value: (m: MachineTruth) => (m.massFlow / 1.2929) * 3600 }
+      ? { unit: 'Nm3/h', noise: 0.01, value: (m: MachineTruth) => (m.massFlow / AIR_NORMAL_DENSITY) * 3600 }
       : machine.startsWith('idf')
         ? { unit: 'm3/h', noise: 0.01, value: (m: MachineTruth) => m.volumeFlow * 3600 }
         : { unit: 't/h', noise: 0.005, value: (m: MachineTruth) => m.massFlow * 3.6 };
