@@ -45,9 +45,12 @@ export type GaugeAbsoluteCause =
   | 'gauge transmitter on an absolute tag';
 
 /**
- * Accepted ambient pressures [Pa]: a site's barometric pressure lies well inside; ISO 2533 puts
- * the standard atmosphere near 31 kPa at 9 km (from memory). The bounds catch an ambient given
- * in bar (1.013) or kPa (101.3) instead of Pa.
+ * Accepted ambient pressures [Pa]: a site's barometric pressure lies well inside. The standard
+ * atmosphere (ICAO Doc 7488, U.S. Standard Atmosphere 1976) has p = p0 (1 - L h/T0)^(g0 M/(R* L))
+ * below 11 km, with p0 = 101 325 Pa, T0 = 288.15 K, L = 6.5 K/km, g0 = 9.80665 m/s2,
+ * M = 28.9644 g/mol, R* = 8.31432 J/(mol K): 30.7 kPa at 9 km geopotential height (22.63 kPa at
+ * 11 km, as those tables list). The bounds catch an ambient given in bar (1.013) or kPa (101.3)
+ * instead of Pa.
  */
 export const AMBIENT_PRESSURE_RANGE: Readonly<{ min: number; max: number }> = { min: 30_000, max: 120_000 };
 
