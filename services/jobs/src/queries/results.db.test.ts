@@ -80,9 +80,7 @@ describe('results writers (binary COPY and upsert) on PostgreSQL', () => {
   });
 
   it('a second replace of a range leaves only the new rows, and rows outside it alone', async () => {
-    await replaceResultsRange(db.pool, 1, T0 + MINUTE, T0 + 3 * MINUTE, [
-      row(1, 1, { efficiency: 0.5 }),
-    ]);
+    await replaceResultsRange(db.pool, 1, T0 + MINUTE, T0 + 3 * MINUTE, [row(1, 1, { efficiency: 0.5 })]);
     const back = await readResults(db.pool, 1, T0, T0 + 4 * MINUTE);
     expect(back.map((r) => (r.time - T0) / MINUTE)).toEqual([0, 1, 3]);
     expect(back[1]?.efficiency).toBe(0.5);
