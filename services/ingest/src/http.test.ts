@@ -97,6 +97,26 @@ describe('POST /ingest/samples', () => {
     );
   });
 
+  it('refuses a value too large for the store by index, and stores the item beside it', async () => {
+    const before = sink.stored.length;
+    const res = await app.inject({
+      method: 'POST',
+      url: '/ingest/samples',
+      headers: auth,
+      payload: [
+        { tag: 'ST1.PI-100', time: '2026-03-01T10:00:03Z', value: 1.5e308 },
+        { tag: 'ST1.PI-100', time: '2026-03-01T10:00:04Z', value: 42.6 },
+      ],
+    });
+    expect(res.statusCode).toBe(200);
+    const body = res.json();
+    expect(body.accepted).toBe(1);
+    expect(body.rejected).toEqual([
+      { index: 0, field: 'value', problem: expect.stringContaining('is beyond ±1e+200') },
+    ]);
+    expect(sink.stored.slice(before).map((s) => s.value)).toEqual([42.6]);
+  });
+
   it('answers 400 for a body that is not an array, 413 beyond maxItems', async () => {
     const obj = await app.inject({
       method: 'POST',

@@ -9,6 +9,7 @@ import { z } from 'zod';
 import { errorMessage } from './errors.js';
 import type { SourceMetrics } from './metrics.js';
 import { QUALITY, type Sample, type SampleSink, type TagLookup } from './types.js';
+import { isStorableValue, tooLargeReason } from './values.js';
 
 export interface HttpPushOptions {
   readonly sink: SampleSink;
@@ -43,7 +44,9 @@ export const pushItemSchema = z.strictObject({
       error: 'expected ISO 8601 with an offset ("2026-03-01T10:00:00Z") or epoch milliseconds',
     },
   ),
-  value: z.number({ error: 'expected a finite number' }),
+  value: z
+    .number({ error: 'expected a finite number' })
+    .refine(isStorableValue, { error: (issue) => tooLargeReason(String(issue.input)) }),
   /** OPC DA quality code 0..255 (192 good, 64 uncertain, 0 bad); default good. */
   quality: z.number().int().min(0).max(255).optional(),
 });

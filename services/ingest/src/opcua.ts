@@ -8,6 +8,7 @@ import type { Logger } from 'pino';
 import { IngestError } from './errors.js';
 import type { SourceMetrics } from './metrics.js';
 import { QUALITY, type Sample } from './types.js';
+import { isStorableValue } from './values.js';
 
 export interface OpcuaItem {
   readonly tagId: number;
@@ -54,11 +55,11 @@ export function qualityFromStatus(statusCode: number): number {
   return QUALITY.bad;
 }
 
-/** A data value's payload as a number: numbers as they are, booleans as 1/0; other types are not samples. */
+/** A data value's payload as a number: storable numbers as they are (see values.ts), booleans as 1/0; other types are not samples. */
 export function numericValue(value: unknown): number | undefined {
-  if (typeof value === 'number') return Number.isFinite(value) ? value : undefined;
+  if (typeof value === 'number') return isStorableValue(value) ? value : undefined;
   if (typeof value === 'boolean') return value ? 1 : 0;
-  if (typeof value === 'bigint') return Number(value);
+  if (typeof value === 'bigint') return isStorableValue(Number(value)) ? Number(value) : undefined;
   return undefined;
 }
 

@@ -85,6 +85,11 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
       expect(bad.status, name).toBe('rejected');
       const reason = await readFile(join(dir, 'rejected', `${name}.reason.txt`), 'utf8');
       expect(reason).toContain('UTF-8');
+      // Shown in quarantine too, naming the header line that could not be read.
+      expect(
+        (await quarantineOf(bad.fileId)).map((q) => [q.line, q.reason.split(':')[0]]),
+        name,
+      ).toEqual([[1, 'file-rejected']]);
     }
     const rec = await db.pool.query('SELECT status, error FROM ingested_files WHERE path = $1', [
       join(dir, 'utf16.csv'),
@@ -109,12 +114,45 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
     expect((await samplesOf('ST1.TI-100')).map((s) => s.value)).toEqual([510.5, 510.8]);
   });
 
-  it('empty files are rejected; a header-only file is done with nothing stored', async () => {
-    expect((await ingest('empty.csv')).status).toBe('rejected');
+  it('empty files are rejected and say so in quarantine; a header-only file is done, nothing stored, and noted', async () => {
+    const e = await ingest('empty.csv');
+    expect(e.status).toBe('rejected');
+    expect((await quarantineOf(e.fileId)).map((q) => [q.line, q.column_name, q.reason])).toEqual([
+      [
+        null,
+        null,
+        `file-rejected: the file is empty; nothing stored, moved to ${join(dir, 'rejected', 'empty.csv')}`,
+      ],
+    ]);
     // bom-only.csv: distinct bytes from empty.csv, so a distinct checksum.
-    expect((await ingest('bom-only.csv')).status).toBe('rejected');
+    const b = await ingest('bom-only.csv');
+    expect(b.status).toBe('rejected');
+    expect((await quarantineOf(b.fileId)).map((q) => q.reason.split(':')[0])).toEqual(['file-rejected']);
     const h = await ingest('header-only.csv');
     expect(h.status === 'done' && h.summary.samples === 0).toBe(true);
+    expect((await quarantineOf(h.fileId)).map((q) => [q.line, q.reason.split(':')[0], q.raw])).toEqual([
+      [1, 'no-data', 'time,ST1.PI-100,ST1.TI-100'],
+    ]);
+  });
+
+  it('values beyond the storable magnitude are quarantined; the rows beside them are stored, the file is done', async () => {
+    await clear();
+    // Two 1.5e308 in one minute would overflow the minute rollup's float8 sum (largest double about 1.8e308, IEEE 754).
+    await writeFile(
+      join(dir, 'huge.csv'),
+      'time,ST1.PI-100,ST1.TI-100\n2026-01-10 10:00:05,1.5e308,510.1\n2026-01-10 10:00:15,1.5e308,510.2\n2026-01-10 10:00:25,1e23,510.3\n',
+    );
+    const r = await ingest('huge.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect(
+      (await quarantineOf(r.fileId)).map((q) => [q.line, q.column_name, q.reason.split(':')[0]]),
+    ).toEqual([
+      [2, 'ST1.PI-100', 'value-too-large'],
+      [3, 'ST1.PI-100', 'value-too-large'],
+    ]);
+    // 1e23 is absurd for a pressure but storable: raw samples are kept as received, the compute job's range check judges them.
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([1e23]);
+    expect((await samplesOf('ST1.TI-100')).map((s) => s.value)).toEqual([510.1, 510.2, 510.3]);
   });
 
   it('a very long line is quarantined without holding it', async () => {
@@ -230,5 +268,10 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
     expect(r.status).toBe('duplicate');
     const files = await readdir(join(dir, 'processed'));
     expect(files.some((f) => f.startsWith('again.csv'))).toBe(true);
+    // Seen in quarantine under the first file, naming the one dropped again.
+    const q = await quarantineOf(r.fileId);
+    expect(q.at(-1)!.reason).toMatch(
+      new RegExp(`^duplicate-file: ${join(dir, 'again.csv').replaceAll('.', '\\.')} has the same content`),
+    );
   });
 });

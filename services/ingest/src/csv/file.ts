@@ -1,6 +1,7 @@
 /**
  * One CSV file end to end: checksum, the ingested_files record, parsing, samples to the
- * sink, bad rows to quarantine, and the file moved to processed/ or rejected/.
+ * sink, bad rows to quarantine, and the file moved to processed/ or rejected/. A file refused
+ * whole, or dropped again, gets a quarantine entry too, so every drop shows on the quarantine page.
  *
  * Exactly once: the file's SHA-256 is unique in ingested_files. A file already 'done' is
  * not read again. A file left 'processing' (the process died) or 'failed' is read again
@@ -147,6 +148,17 @@ export async function ingestCsvFile(
         processedDir === null
           ? null
           : await moveFile(path, processedDir, `duplicate-${checksum.slice(0, 12)}`);
+      // The duplicate has no ingested_files record of its own (the checksum is unique): its entry
+      // names it, and the first file through file_id, so the drop is seen and not taken for lost.
+      await writeQuarantine(pool, fileId, source, [
+        {
+          line: null,
+          column: null,
+          code: 'duplicate-file',
+          reason: `duplicate-file: ${path} has the same content (SHA-256 ${checksum.slice(0, 12)}...) as this file, already stored; not read again${movedTo === null ? '' : `, moved to ${movedTo}`}`,
+          raw: null,
+        },
+      ]);
       return { status: 'duplicate', fileId, checksum, movedTo };
     }
     // Interrupted or failed before: redo from the start.
@@ -188,6 +200,17 @@ export async function ingestCsvFile(
         `${error.message}\ncode: ${error.code}\ndetails: ${JSON.stringify(error.details)}\nsha256: ${checksum}\n`,
       );
     }
+    // A rejected file shows in quarantine too, beside the bad rows of other files.
+    const line = error.details.line;
+    await writeQuarantine(pool, fileId, source, [
+      {
+        line: typeof line === 'number' ? line : null,
+        column: null,
+        code: 'file-rejected',
+        reason: `file-rejected: ${error.message}; nothing stored${movedTo === null ? '' : `, moved to ${movedTo}`}`,
+        raw: null,
+      },
+    ]);
     return { status: 'rejected', fileId, checksum, reason: error.message, movedTo };
   }
   if (ownSink) await sink.close?.();

@@ -57,5 +57,18 @@ describe('parseCsv', () => {
     expect(parseValue('1.234,5', true)).toMatchObject({ ok: false, code: 'bad-value' });
     expect(parseValue('-Inf', false)).toMatchObject({ ok: false, code: 'non-finite-value' });
     expect(parseValue('12 bar', false)).toMatchObject({ ok: false, code: 'bad-value' });
+    // Finite doubles too large to sum in a store bucket (values.ts) are refused; 1e200 itself is kept.
+    expect(parseValue('1.5e308', false)).toMatchObject({ ok: false, code: 'value-too-large' });
+    expect(parseValue('-1e201', false)).toMatchObject({ ok: false, code: 'value-too-large' });
+    expect(parseValue('1e200', false)).toEqual({ ok: true, value: 1e200 });
+  });
+
+  it('notes a file with a header and no data rows once, at the header line', async () => {
+    const r = await run('\ufefftime,ST1.PI-100\r\n\r\n', {});
+    expect(r.samples).toEqual([]);
+    expect(r.summary).toMatchObject({ rows: 0, samples: 0, quarantined: 1 });
+    expect(r.quarantine.map((q) => [q.line, q.column, q.code, q.raw])).toEqual([
+      [1, null, 'no-data', 'time,ST1.PI-100'],
+    ]);
   });
 });

@@ -7,6 +7,7 @@ import type { Readable } from 'node:stream';
 import { canonicalUnit } from '@isentrope/thermo';
 import { IngestError } from '../errors.js';
 import { QUALITY, type Sample, type TagInfo, type TagLookup } from '../types.js';
+import { isStorableValue, tooLargeReason } from '../values.js';
 import type { CsvFormat } from './format.js';
 import { type Line, readLines, splitCsvLine } from './lines.js';
 import { detectTimeFormat, FoldTracker, type ParsedTime, timeParser, ZoneResolver } from './time.js';
@@ -22,10 +23,15 @@ export type QuarantineReason =
   | 'ambiguous-time'
   | 'bad-value'
   | 'non-finite-value'
+  | 'value-too-large'
   | 'bad-quality'
   | 'unknown-tag'
   | 'duplicate-column'
-  | 'unit-mismatch';
+  | 'unit-mismatch'
+  | 'no-data'
+  // Written by file.ts: a file refused whole, and a file whose content was already taken.
+  | 'file-rejected'
+  | 'duplicate-file';
 
 export interface QuarantineEntry {
   /** Line in the file (1 = first line), or null for a problem of no single line. */
@@ -45,7 +51,7 @@ export interface CsvSummary {
   /** Data lines read (not counting the header, units row or blank lines). */
   rows: number;
   samples: number;
-  /** Quarantine entries written (a bad row, a bad cell, or once per unknown or skipped column/tag). */
+  /** Quarantine entries written (a bad row, a bad cell, once per unknown or skipped column/tag, or once for a file without data rows). */
   quarantined: number;
   /** Cells not stored because their column or tag was quarantined once (unknown tag, duplicate, unit mismatch). */
   skippedCells: number;
@@ -59,7 +65,7 @@ const RAW_MAX = 2000;
 
 type ValueResult =
   | { ok: true; value: number }
-  | { ok: false; code: 'bad-value' | 'non-finite-value'; reason: string };
+  | { ok: false; code: 'bad-value' | 'non-finite-value' | 'value-too-large'; reason: string };
 
 export function parseValue(cell: string, decimalComma: boolean): ValueResult {
   let text = cell;
@@ -74,7 +80,9 @@ export function parseValue(cell: string, decimalComma: boolean): ValueResult {
   }
   if (NUMBER.test(text)) {
     const value = Number(text);
-    if (Number.isFinite(value)) return { ok: true, value };
+    if (isStorableValue(value)) return { ok: true, value };
+    if (Number.isFinite(value))
+      return { ok: false, code: 'value-too-large', reason: tooLargeReason(`"${cell}"`) };
     return { ok: false, code: 'non-finite-value', reason: `"${cell}" overflows a double` };
   }
   if (NON_FINITE.test(text))
@@ -516,6 +524,16 @@ export async function parseCsv(
         raw: u.raw,
       });
     }
+  }
+  if (summary.rows === 0) {
+    // Not an error of any row, but an export that wrote no data usually means trouble upstream: say so.
+    await quarantine({
+      line: header.line,
+      column: null,
+      code: 'no-data',
+      reason: `no-data: the file has a header${format.unitsRow ? ' and a units row' : ''} but no data rows; nothing stored`,
+      raw: clip(header.text),
+    });
   }
   if (batch.length > 0) await handlers.samples(batch);
   if (pending.length > 0) await handlers.quarantine(pending);
