@@ -9,7 +9,8 @@ export type JobsErrorCode =
   | 'JOBS_BAD_RANGE'
   | 'JOBS_NOT_FOUND'
   | 'JOBS_ALERT_REJECTED'
-  | 'JOBS_REPORT_UNAVAILABLE';
+  | 'JOBS_REPORT_UNAVAILABLE'
+  | 'JOBS_BAD_SAMPLES';
 
 export const JOBS_ERROR_CODES: Readonly<Record<JobsErrorCode, string>> = {
   JOBS_BAD_CONFIG:
@@ -19,6 +20,8 @@ export const JOBS_ERROR_CODES: Readonly<Record<JobsErrorCode, string>> = {
   JOBS_NOT_FOUND: 'The machine or alert asked for does not exist.',
   JOBS_ALERT_REJECTED: 'The alert lifecycle refused the action (the reducer code is given).',
   JOBS_REPORT_UNAVAILABLE: 'The monthly report builder is not wired in; no report was made.',
+  JOBS_BAD_SAMPLES:
+    'The database sent sample rows in a form the reader does not expect (the offset is given).',
 };
 
 export class JobsError extends Error {

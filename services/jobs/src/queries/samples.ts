@@ -1,49 +1,110 @@
+import type pg from 'pg';
+import { to as copyTo } from 'pg-copy-streams';
 import type { RawSeries } from '../compute/pipeline.js';
+import { JobsError } from '../errors.js';
 import type { Queryable } from './machines.js';
 
 /** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
 const PG_EPOCH_MS = 946_684_800_000;
+/** Binary COPY header: 11-byte signature, int32 flags, int32 extension length (no extension). */
+const COPY_HEADER_BYTES = 19;
+/** One tuple of (tag_id int4, time timestamptz, value float8, quality int2): field count and four length-prefixed fields. */
+const TUPLE_BYTES = 2 + (4 + 4) + (4 + 8) + (4 + 8) + (4 + 2);
 
 /**
- * Raw samples of the given tags with from <= time < to, columnar per tag. Each tag's samples come
- * back as one bytea of fixed 18-byte records (timestamptz_send: int8 microseconds since
- * 2000-01-01; float8send: the value; int2send: the quality, all big-endian), so the driver parses
- * one hex string per tag instead of a text field per sample and no Date objects are made.
+ * Raw samples of the given tags with from <= time < to, columnar per tag and sorted by time.
+ * Read with a binary COPY out of a plain SELECT (PostgreSQL documentation, COPY, "Binary
+ * Format"): the server sends fixed 40-byte tuples and neither sorts nor aggregates; rows come in
+ * the order the scan finds them, nearly always time order per tag, and a tag whose rows do not is
+ * sorted here. Measured on the jobs bench: about a third of the server time and half the total
+ * of an ordered string_agg of bytea records.
  */
 export async function readSamples(
-  db: Queryable,
+  pool: pg.Pool,
   tagIds: readonly number[],
   fromMs: number,
   toMs: number,
 ): Promise<Map<number, RawSeries>> {
-  const res = await db.query<{ tag_id: number; b: Buffer }>(
-    `SELECT tag_id, string_agg(timestamptz_send(time) || float8send(value) || int2send(quality), ''::bytea ORDER BY time) AS b
-       FROM samples
-      WHERE tag_id = ANY($1::int[]) AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
-      GROUP BY tag_id`,
-    [[...tagIds], fromMs, toMs],
-  );
+  // COPY takes no bind parameters: the values are checked to be plain numbers before they go in.
+  for (const id of tagIds)
+    if (!Number.isSafeInteger(id))
+      throw new JobsError('JOBS_BAD_CONFIG', `tag id ${id} is not an integer`, { tagId: id });
+  if (!Number.isFinite(fromMs) || !Number.isFinite(toMs))
+    throw new JobsError('JOBS_BAD_RANGE', `bad sample range ${fromMs} to ${toMs} [ms]`, { fromMs, toMs });
   const out = new Map<number, RawSeries>();
-  for (const row of res.rows) out.set(row.tag_id, decodeSamples(row.b));
+  if (tagIds.length === 0 || !(toMs > fromMs)) return out;
+  const client = await pool.connect();
+  let chunks: Buffer[];
+  try {
+    const stream = client.query(
+      copyTo(
+        `COPY (SELECT tag_id, time, value, quality FROM samples
+                WHERE tag_id IN (${tagIds.join(', ')})
+                  AND time >= to_timestamp(${fromMs / 1000}) AND time < to_timestamp(${toMs / 1000}))
+         TO STDOUT (FORMAT binary)`,
+      ),
+    );
+    chunks = [];
+    for await (const chunk of stream) chunks.push(chunk as Buffer);
+  } finally {
+    client.release();
+  }
+  return decodeSampleCopy(Buffer.concat(chunks));
+}
+
+/** Split the binary COPY of readSamples into sorted columns per tag. */
+export function decodeSampleCopy(b: Buffer): Map<number, RawSeries> {
+  const view = new DataView(b.buffer, b.byteOffset, b.byteLength);
+  // First pass: rows per tag, so each tag's columns are allocated once.
+  const counts = new Map<number, number>();
+  let o = COPY_HEADER_BYTES;
+  let rows = 0;
+  while (o + 2 <= b.length && view.getInt16(o) !== -1) {
+    if (view.getInt16(o) !== 4 || o + TUPLE_BYTES > b.length)
+      throw new JobsError('JOBS_BAD_SAMPLES', 'unexpected tuple in the samples COPY stream', { offset: o });
+    const tag = view.getInt32(o + 6);
+    counts.set(tag, (counts.get(tag) ?? 0) + 1);
+    o += TUPLE_BYTES;
+    rows++;
+  }
+  const series = new Map<number, { t: Float64Array; value: Float64Array; quality: Int16Array; n: number }>();
+  for (const [tag, n] of counts)
+    series.set(tag, { t: new Float64Array(n), value: new Float64Array(n), quality: new Int16Array(n), n: 0 });
+  o = COPY_HEADER_BYTES;
+  for (let r = 0; r < rows; r++, o += TUPLE_BYTES) {
+    const s = series.get(view.getInt32(o + 6)) as {
+      t: Float64Array;
+      value: Float64Array;
+      quality: Int16Array;
+      n: number;
+    };
+    // int8 microseconds as two 32-bit halves: exact below 2^53 us (year 2255).
+    const us = view.getInt32(o + 14) * 4_294_967_296 + view.getUint32(o + 18);
+    s.t[s.n] = us / 1000 + PG_EPOCH_MS;
+    s.value[s.n] = view.getFloat64(o + 26);
+    // As stored; the pipeline reads its OPC DA class (alignQuality).
+    s.quality[s.n] = view.getInt16(o + 38);
+    s.n++;
+  }
+  const out = new Map<number, RawSeries>();
+  for (const [tag, s] of series) out.set(tag, sortedByTime(s));
   return out;
 }
 
-/** Decode the 18-byte records of readSamples. */
-export function decodeSamples(b: Buffer): RawSeries {
-  const n = Math.floor(b.length / 18);
-  const t = new Float64Array(n);
-  const value = new Float64Array(n);
-  const quality = new Int16Array(n);
-  const view = new DataView(b.buffer, b.byteOffset, b.byteLength);
-  for (let i = 0, o = 0; i < n; i++, o += 18) {
-    // int8 as two 32-bit halves: exact below 2^53 us (year 2255).
-    const us = view.getInt32(o) * 4_294_967_296 + view.getUint32(o + 4);
-    t[i] = us / 1000 + PG_EPOCH_MS;
-    value[i] = view.getFloat64(o + 8);
-    // As stored; the pipeline reads its OPC DA class (alignQuality).
-    quality[i] = view.getInt16(o + 16);
-  }
-  return { t, value, quality };
+/** The series itself when already in time order (the usual case), else a sorted copy. */
+function sortedByTime(s: RawSeries): RawSeries {
+  const { t } = s;
+  let ordered = true;
+  for (let i = 1; i < t.length && ordered; i++) ordered = (t[i] as number) >= (t[i - 1] as number);
+  if (ordered) return { t: s.t, value: s.value, quality: s.quality };
+  const idx = Array.from({ length: t.length }, (_, i) => i).sort(
+    (i, j) => (t[i] as number) - (t[j] as number),
+  );
+  return {
+    t: Float64Array.from(idx, (i) => t[i] as number),
+    value: Float64Array.from(idx, (i) => s.value[i] as number),
+    quality: Int16Array.from(idx, (i) => s.quality[i] as number),
+  };
 }
 
 /** Earliest sample time [ms] of the given tags, or undefined when they have none. */
