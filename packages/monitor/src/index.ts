@@ -4,7 +4,8 @@
  * Order of use in the compute and alert jobs:
  *   alignTags -> validateAligned -> detectSteadyState -> (machine model per point, in thermo)
  *   -> rollingWindows / bucketStats -> fitBaseline / computeDrift -> stepBand -> stepAlert;
- *   monthly: bucketStats (daily) -> computeDrift -> degradation (Theil-Sen).
+ *   monthly: localMonth / localDays (site time zone) -> daily drift means -> degradation (Theil-Sen)
+ *   -> buildMonthlyReport -> renderReportCsv / Json / Html.
  * Conventions: values in SI; efficiencies are fractions [-]; drift and degradation rates are in
  * points of efficiency [%-points] (1 point = 0.01), negative = loss. Errors are MonitorError
  * subclasses with a stable `code` (MONITOR_ERROR_CODES). Show CAUTION beside every figure.
@@ -18,6 +19,7 @@ export * from './caution.js';
 export * from './degradation.js';
 export * from './errors.js';
 export * from './instrument/index.js';
+export * from './local-calendar.js';
 export * from './report/index.js';
 export * from './rolling.js';
 export * from './stats.js';
