@@ -96,6 +96,7 @@ describe('monthly degradation export against the stored results', () => {
   it('gathers and builds figures equal to the stored results', async () => {
     const report = buildMonthlyReport(
       await gatherMonthlyInput(db.pool, '2026-03', {
+        timeZone: 'UTC',
         price: { perMWh: 90, currency: 'EUR' },
         generatedAtMs: 0,
       }),
@@ -146,7 +147,13 @@ describe('monthly degradation export against the stored results', () => {
     const text = dl.body;
     expect(text.charCodeAt(0)).toBe(0xfeff);
     const lines = text.slice(1).trimEnd().split('\r\n');
-    const header = lines[0]!.split(',');
+    // The site is in UTC: the comment rows say so, with the bounds.
+    expect(lines.slice(1, 4)).toEqual([
+      '# time zone: UTC (months and days are local calendar time)',
+      '# period from: 2026-03-01T00:00:00+00:00 (included)',
+      '# period to: 2026-04-01T00:00:00+00:00 (excluded)',
+    ]);
+    const header = lines.find((l) => !l.startsWith('#'))!.split(',');
     const ac = lines.find((l) => l.includes(',ac1,'))!.split(',');
     const col = (name: string) => ac[header.indexOf(name)];
     const exp = expectedCompressor();
@@ -186,7 +193,7 @@ describe('monthly degradation export against the stored results', () => {
   });
 
   it('daily drift for the rate is taken from the stored days', async () => {
-    const input = await gatherMonthlyInput(db.pool, '2026-03', { rateWindowDays: 31 });
+    const input = await gatherMonthlyInput(db.pool, '2026-03', { timeZone: 'UTC', rateWindowDays: 31 });
     const ac = input.machines.find((m) => m.machineId === plant.compressorId)!;
     expect(ac.dailyDrift.t.length).toBe(31);
     // Day 0 of March: mean of effAt(0..23) except i = 7, minus 0.84, in points.
@@ -199,5 +206,142 @@ describe('monthly degradation export against the stored results', () => {
       }
     expect(ac.dailyDrift.driftPts[0]).toBeCloseTo(100 * (s / n - 0.84), 9);
     expect(ac.dailyDrift.t[0]).toBe(march + DAY / 2);
+  });
+});
+
+/**
+ * A second site in Europe/Berlin (invented): CET (+01:00), CEST (+02:00) from the last Sunday of
+ * March, 01:00 UTC (29 March 2026), under the EU rule. Its March 2026 runs from 28 February 23:00 UTC
+ * to 31 March 22:00 UTC. Invented rows either side of each local midnight, told apart by efficiency,
+ * against a flat baseline of 0.70.
+ */
+describe('monthly export in the site time zone, through the API', () => {
+  let db: TestDatabase;
+  let app: ApiApp;
+  let token: string;
+  let pumpId: number;
+  const rows = [
+    { t: Date.UTC(2026, 1, 28, 22, 30), efficiency: 0.5 }, // 28 Feb 23:30 CET: February
+    { t: Date.UTC(2026, 1, 28, 23, 30), efficiency: 0.6 }, // 1 Mar 00:30 CET: March
+    { t: Date.UTC(2026, 2, 31, 21, 30), efficiency: 0.7 }, // 31 Mar 23:30 CEST: March
+    { t: Date.UTC(2026, 2, 31, 22, 30), efficiency: 0.8 }, // 1 Apr 00:30 CEST: April
+  ];
+
+  beforeAll(async () => {
+    db = await createTestDatabase();
+    await seedPlant(db.pool); // the UTC site
+    const site = await db.pool.query<{ id: number }>(
+      `INSERT INTO sites (slug, name, time_zone, ambient_pressure, spec)
+       VALUES ('berlin', 'Invented Berlin works', 'Europe/Berlin', '1.013 bara', '{}') RETURNING id`,
+    );
+    const m = await db.pool.query<{ id: number }>(
+      `INSERT INTO machines (site_id, slug, name, kind, fluid, spec)
+       VALUES ($1, 'pu1', 'Pump PU1 (invented)', 'pump', '"water"', '{}') RETURNING id`,
+      [site.rows[0]!.id],
+    );
+    pumpId = m.rows[0]!.id;
+    await setBaseline(db.pool, pumpId, [0.7], 0, 2);
+    await insertResults(
+      db.pool,
+      pumpId,
+      rows.map((r) => ({ ...r, operatingPoint: 1, power: 1e6 })),
+    );
+    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'viewer', 'planner-password'));
+    app = await buildTestApp(db.pool);
+  });
+  afterAll(async () => {
+    await app?.close();
+    await db?.drop();
+  });
+
+  const post = (payload: Record<string, unknown>) =>
+    app.inject({
+      method: 'POST',
+      url: '/api/exports',
+      headers: { authorization: `Bearer ${token}` },
+      payload,
+    });
+  const get = (url: string) =>
+    app.inject({ method: 'GET', url, headers: { authorization: `Bearer ${token}` } });
+
+  it('refuses a fleet export when the months of the sites differ, and an unknown zone', async () => {
+    const mixed = await post({ month: '2026-03', format: 'json' });
+    expect(mixed.statusCode).toBe(422);
+    expect(mixed.json<{ detail: string }>().detail).toContain('Europe/Berlin, UTC');
+    const bad = await post({ month: '2026-03', format: 'json', timeZone: 'Mars/Olympus' });
+    expect(bad.statusCode).toBe(400);
+    const n = await db.pool.query<{ n: number }>('SELECT count(*)::int AS n FROM exports');
+    expect(n.rows[0]!.n).toBe(0);
+  });
+
+  it("cuts a machine's month at its site's local midnight and states zone and bounds", async () => {
+    const made = await post({ month: '2026-03', format: 'json', machineId: pumpId });
+    expect(made.statusCode).toBe(201);
+    const x = made.json<{ month: string; periodFrom: string; periodTo: string; download: string }>();
+    expect(x.month).toBe('2026-03');
+    expect(x.periodFrom).toBe('2026-02-28T23:00:00.000Z');
+    expect(x.periodTo).toBe('2026-03-31T22:00:00.000Z');
+    const dl = await get(x.download);
+    expect(dl.headers['content-disposition']).toBe(
+      `attachment; filename="isentrope-degradation-2026-03-machine-${pumpId}.json"`,
+    );
+    const json = dl.json<{
+      timeZone: string;
+      from: string;
+      to: string;
+      caution: string;
+      machines: {
+        resultsTotal: number;
+        meanEfficiency: number;
+        days: { date: string; driftPts: number }[];
+      }[];
+    }>();
+    expect(json.timeZone).toBe('Europe/Berlin');
+    expect(json.from).toBe('2026-03-01T00:00:00+01:00');
+    expect(json.to).toBe('2026-04-01T00:00:00+02:00');
+    expect(json.caution).toBe(CAUTION);
+    // 00:30 on 1 March and 23:30 on 31 March, local: (0.6 + 0.7) / 2 (arithmetic).
+    expect(json.machines[0]!.resultsTotal).toBe(2);
+    expect(json.machines[0]!.meanEfficiency).toBeCloseTo(0.65, 12);
+    // Local days of the 90-day rate window, which reaches back before the month: 28 February,
+    // 1 March and 31 March, at 100 (0.5 - 0.7), 100 (0.6 - 0.7) and 100 (0.7 - 0.7) points.
+    const days = json.machines[0]!.days;
+    expect(days.map((d) => d.date)).toEqual(['2026-02-28', '2026-03-01', '2026-03-31']);
+    expect(days.map((d) => d.driftPts)).toEqual([
+      expect.closeTo(-20, 9),
+      expect.closeTo(-10, 9),
+      expect.closeTo(0, 9),
+    ]);
+  });
+
+  it('daily drift days are local: mid-points of 1 March (24 h) and 31 March (CEST)', async () => {
+    const input = await gatherMonthlyInput(db.pool, '2026-03', {
+      timeZone: 'Europe/Berlin',
+      machineIds: [pumpId],
+      rateWindowDays: 31,
+    });
+    // 1 March: 28 Feb 23:00 to 1 Mar 23:00 UTC; 31 March: 30 Mar 22:00 to 31 Mar 22:00 UTC.
+    expect(input.machines[0]!.dailyDrift.t).toEqual([Date.UTC(2026, 2, 1, 11), Date.UTC(2026, 2, 31, 10)]);
+  });
+
+  it('makes a fleet CSV in the zone asked for, with the zone, the bounds and the caution', async () => {
+    const made = await post({ month: '2026-03', format: 'csv', timeZone: 'Europe/Berlin' });
+    expect(made.statusCode).toBe(201);
+    const dl = await get(made.json<{ download: string }>().download);
+    expect(dl.headers['content-disposition']).toBe(
+      'attachment; filename="isentrope-degradation-2026-03.csv"',
+    );
+    const lines = dl.body.slice(1).trimEnd().split('\r\n');
+    expect(lines.slice(1, 4)).toEqual([
+      '# time zone: Europe/Berlin (months and days are local calendar time)',
+      '# period from: 2026-03-01T00:00:00+01:00 (included)',
+      '# period to: 2026-04-01T00:00:00+02:00 (excluded)',
+    ]);
+    expect(lines.filter((l) => /^2026-03,/.test(l)).map((l) => l.split(',')[2])).toEqual([
+      'pu1',
+      'ac1',
+      'st1',
+    ]);
+    expect(lines.at(-1)).toBe(`"# ${CAUTION}"`);
   });
 });

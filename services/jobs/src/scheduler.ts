@@ -15,8 +15,6 @@ import { type ComputeJobOptions, runComputeOnce } from './compute/job.js';
 export type JobName = 'compute' | 'alerts' | 'notifications' | 'monthly' | 'retention';
 
 export interface JobsConfig extends AnalysisJobsConfig {
-  /** Site time zone for the monthly export (IANA); default UTC. */
-  readonly timeZone?: string;
   readonly compute?: ComputeJobOptions;
 }
 
@@ -48,7 +46,9 @@ export const SCHEDULES: Readonly<Record<JobName, string>> = {
   compute: '0 * * * * *', // every minute, at second 0
   alerts: '20 * * * * *', // every minute, after compute
   notifications: '*/10 * * * * *', // every 10 s
-  monthly: '0 0 2 1 * *', // 02:00 on the 1st, site time
+  // Hourly: the job itself exports each site's month once it has ended in the site's zone
+  // plus the settle time (sites may be in several zones, offsets in half and quarter hours).
+  monthly: '0 0 * * * *',
   retention: '0 30 3 * * *', // daily
 };
 
@@ -161,11 +161,7 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
     });
     for (const job of Object.keys(SCHEDULES) as JobName[]) {
       if (bodies[job] === undefined) continue;
-      const options = {
-        noOverlap: true,
-        name: `isentrope-${job}`,
-        ...(job === 'monthly' ? { timezone: deps.config.timeZone ?? 'UTC' } : {}),
-      };
+      const options = { noOverlap: true, name: `isentrope-${job}` };
       tasks.push(
         cron.schedule(
           SCHEDULES[job],

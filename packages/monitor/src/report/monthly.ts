@@ -1,5 +1,7 @@
 /**
- * Monthly degradation report for planners: per machine and calendar month (UTC), the data
+ * Monthly degradation report for planners: per machine and calendar month in the report's time
+ * zone (the site's: local midnight on the 1st to local midnight on the next 1st, see
+ * ../local-calendar.ts), the data
  * coverage, mean efficiency, drift against the baseline, its change since the previous month,
  * the degradation rate (Theil-Sen on daily drift means, see ../degradation.ts), the forecast date
  * of reaching the alarm band, and the energy the loss of efficiency costs.
@@ -20,6 +22,7 @@
 import { CAUTION } from '../caution.js';
 import { degradation } from '../degradation.js';
 import { MonitorBadInputError } from '../errors.js';
+import { localDateOf, localMonth } from '../local-calendar.js';
 import { medianInPlace } from '../stats.js';
 
 export type ReportMachineKind = 'turbine' | 'compressor' | 'pump' | 'fan';
@@ -44,7 +47,7 @@ export interface MonthlyMachineInput {
   readonly resultsTotal: number;
   /** Time one result stands for [ms] (the compute window); default: the median spacing of the results. */
   readonly intervalMs?: number | undefined;
-  /** Daily drift means [%-points] over the rate window (may reach back before the month), day mid-points [ms]. */
+  /** Daily drift means [%-points] over the rate window (may reach back before the month), mid-points [ms] of the report zone's local days. */
   readonly dailyDrift: { readonly t: ArrayLike<number>; readonly driftPts: ArrayLike<number> };
   /** Alarm level of the drift [%-points], negative; undefined when no bands are set. */
   readonly alarmPts?: number | undefined;
@@ -55,8 +58,10 @@ export interface MonthlyMachineInput {
 }
 
 export interface MonthlyReportInput {
-  /** Calendar month, 'YYYY-MM' (UTC). */
+  /** Calendar month, 'YYYY-MM', in timeZone. */
   readonly month: string;
+  /** IANA time zone of the month and its days (the site's), e.g. 'Europe/Berlin' or 'UTC'. */
+  readonly timeZone: string;
   readonly generatedAtMs: number;
   readonly machines: readonly MonthlyMachineInput[];
   /** Energy price, currency per MWh; omit for no cost column values. */
@@ -104,16 +109,22 @@ export interface MonthlyMachineReport {
   readonly energyLostMWh: number | null;
   /** Its cost [currency]; null without a price or a baseline. */
   readonly cost: number | null;
-  /** Daily drift means of the rate window, for the charts. */
-  readonly days: readonly { readonly t: number; readonly driftPts: number }[];
+  /** Daily drift means of the rate window, for the charts: mid-point [ms] and local date of each day. */
+  readonly days: readonly { readonly t: number; readonly date: string; readonly driftPts: number }[];
   /** The Theil-Sen line: drift at a time t [ms] is intercept + slope (t - t0); null without a rate. */
   readonly line: { readonly t0: number; readonly driftAtT0: number; readonly slopePtsPerMs: number } | null;
 }
 
 export interface MonthlyReport {
   readonly month: string;
+  /** IANA time zone the month and its days are cut in. */
+  readonly timeZone: string;
+  /** [fromMs, toMs): local midnight on the 1st to local midnight on the next 1st. */
   readonly fromMs: number;
   readonly toMs: number;
+  /** The bounds as ISO 8601 local times with their UTC offsets, e.g. '2026-03-01T00:00:00+01:00'. */
+  readonly from: string;
+  readonly to: string;
   readonly generatedAtMs: number;
   readonly currency: string | null;
   readonly pricePerMWh: number | null;
@@ -121,22 +132,6 @@ export interface MonthlyReport {
   readonly machines: readonly MonthlyMachineReport[];
   readonly totals: { readonly energyLostMWh: number; readonly cost: number | null };
   readonly caution: string;
-}
-
-/** [from, to) of a 'YYYY-MM' month in UTC [ms]. */
-export function monthRange(month: string): { fromMs: number; toMs: number } {
-  const m = /^(\d{4})-(0[1-9]|1[0-2])$/.exec(month);
-  if (m === null) throw new MonitorBadInputError('month', month, "must be 'YYYY-MM'");
-  const y = Number(m[1]);
-  const mo = Number(m[2]) - 1;
-  return { fromMs: Date.UTC(y, mo, 1), toMs: Date.UTC(y, mo + 1, 1) };
-}
-
-/** The 'YYYY-MM' before a month. */
-export function previousMonth(month: string): string {
-  const { fromMs } = monthRange(month);
-  const d = new Date(fromMs - 1);
-  return `${d.getUTCFullYear()}-${String(d.getUTCMonth() + 1).padStart(2, '0')}`;
 }
 
 function medianSpacing(t: ArrayLike<number>): number | null {
@@ -153,6 +148,7 @@ function machineReport(
   m: MonthlyMachineInput,
   fromMs: number,
   toMs: number,
+  timeZone: string,
   price: MonthlyReportInput['price'],
 ): MonthlyMachineReport {
   const { t, efficiency, baseline, power } = m.results;
@@ -209,11 +205,12 @@ function machineReport(
       ? 100 * (meanEfficiency - prev.meanEfficiency)
       : null;
 
-  const days: { t: number; driftPts: number }[] = [];
+  const days: { t: number; date: string; driftPts: number }[] = [];
   for (let i = 0; i < m.dailyDrift.t.length; i++) {
     const dt = m.dailyDrift.t[i] as number;
     const dv = m.dailyDrift.driftPts[i] as number;
-    if (Number.isFinite(dt) && Number.isFinite(dv)) days.push({ t: dt, driftPts: dv });
+    if (Number.isFinite(dt) && Number.isFinite(dv))
+      days.push({ t: dt, date: localDateOf(timeZone, dt), driftPts: dv });
   }
   const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
   let rate: number | null = null;
@@ -283,17 +280,21 @@ function machineReport(
 
 /** Build the month's report from the gathered input. Pure and deterministic. */
 export function buildMonthlyReport(input: MonthlyReportInput): MonthlyReport {
-  const { fromMs, toMs } = monthRange(input.month);
+  const period = localMonth(input.month, input.timeZone);
+  const { fromMs, toMs } = period;
   const price = input.price;
   if (price !== undefined && !(price.perMWh >= 0 && Number.isFinite(price.perMWh)))
     throw new MonitorBadInputError('price.perMWh', price.perMWh, 'must be a finite number >= 0');
-  const machines = input.machines.map((m) => machineReport(m, fromMs, toMs, price));
+  const machines = input.machines.map((m) => machineReport(m, fromMs, toMs, input.timeZone, price));
   let energy = 0;
   for (const m of machines) energy += m.energyLostMWh ?? 0;
   return {
     month: input.month,
+    timeZone: input.timeZone,
     fromMs,
     toMs,
+    from: period.from,
+    to: period.to,
     generatedAtMs: input.generatedAtMs,
     currency: price?.currency ?? null,
     pricePerMWh: price?.perMWh ?? null,

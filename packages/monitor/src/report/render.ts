@@ -1,12 +1,16 @@
 /**
  * Renderers of the monthly report: CSV for spreadsheets, JSON, and a printable HTML page with
- * inline SVG charts. Every output carries the caution.
+ * inline SVG charts. Every output carries the caution, and states the time zone of the month with
+ * its bounds as ISO 8601 local times with UTC offsets; dates (forecasts, days) are local dates in
+ * that zone.
  *
  * CSV as RFC 4180 (CRLF line ends, fields with comma, quote or line break quoted, quotes doubled),
- * preceded by a UTF-8 byte-order mark so spreadsheet programs read it as UTF-8; dates ISO 8601
+ * preceded by a UTF-8 byte-order mark so spreadsheet programs read it as UTF-8; comment rows
+ * starting with '#' first (title, time zone, period bounds), then the column header; dates ISO 8601
  * (YYYY-MM-DD), numbers with a dot decimal and no thousands separator; the caution as a final
- * comment row starting with '#'.
+ * comment row.
  */
+import { localDateOf } from '../local-calendar.js';
 import type { MonthlyMachineReport, MonthlyReport } from './monthly.js';
 
 export const CSV_BOM = '\uFEFF';
@@ -50,8 +54,19 @@ function fmt(v: number | null, digits: number): string {
   return s === `-${(0).toFixed(digits)}` ? (0).toFixed(digits) : s;
 }
 
-function isoDate(ms: number | null): string {
-  return ms === null || !Number.isFinite(ms) ? '' : new Date(ms).toISOString().slice(0, 10);
+/** The local date (YYYY-MM-DD) of an instant in the report's zone; '' for none. */
+function isoDate(report: MonthlyReport, ms: number | null): string {
+  return ms === null || !Number.isFinite(ms) ? '' : localDateOf(report.timeZone, ms);
+}
+
+/** The lines that state what the report covers: month, time zone, bounds with their UTC offsets. */
+export function reportPeriodLines(report: MonthlyReport): string[] {
+  return [
+    `Isentrope monthly degradation report ${report.month}`,
+    `time zone: ${report.timeZone} (months and days are local calendar time)`,
+    `period from: ${report.from} (included)`,
+    `period to: ${report.to} (excluded)`,
+  ];
 }
 
 function csvRow(report: MonthlyReport, m: MonthlyMachineReport): string[] {
@@ -75,9 +90,9 @@ function csvRow(report: MonthlyReport, m: MonthlyMachineReport): string[] {
     String(m.rateDays),
     fmt(m.alarmPts, 2),
     m.forecast.status,
-    isoDate(m.forecast.atMs),
-    isoDate(m.forecast.earliestMs),
-    isoDate(m.forecast.latestMs),
+    isoDate(report, m.forecast.atMs),
+    isoDate(report, m.forecast.earliestMs),
+    isoDate(report, m.forecast.latestMs),
     fmt(m.energyLostMWh, 3),
     fmt(m.cost, 2),
     report.currency ?? '',
@@ -85,23 +100,25 @@ function csvRow(report: MonthlyReport, m: MonthlyMachineReport): string[] {
 }
 
 export function renderReportCsv(report: MonthlyReport): string {
-  const lines = [CSV_COLUMNS.join(',')];
+  const lines = reportPeriodLines(report).map((l) => csvField(`# ${l}`));
+  lines.push(CSV_COLUMNS.join(','));
   for (const m of report.machines) lines.push(csvRow(report, m).map(csvField).join(','));
   lines.push(csvField(`# ${report.caution}`));
   return `${CSV_BOM}${lines.join('\r\n')}\r\n`;
 }
 
-/** JSON with dates as ISO strings besides the epoch milliseconds; NaN becomes null. */
+/**
+ * JSON: the report as built (timeZone, from and to as local times with UTC offsets, besides the
+ * epoch milliseconds), generatedAt in UTC, forecast dates as local dates; NaN becomes null.
+ */
 export function renderReportJson(report: MonthlyReport): string {
   return JSON.stringify(
     {
       ...report,
-      from: new Date(report.fromMs).toISOString(),
-      to: new Date(report.toMs).toISOString(),
       generatedAt: new Date(report.generatedAtMs).toISOString(),
       machines: report.machines.map((m) => ({
         ...m,
-        forecast: { ...m.forecast, date: isoDate(m.forecast.atMs) || null },
+        forecast: { ...m.forecast, date: isoDate(report, m.forecast.atMs) || null },
       })),
     },
     (_k, v: unknown) => (typeof v === 'number' && !Number.isFinite(v) ? null : v),
@@ -114,7 +131,12 @@ function esc(s: string): string {
 }
 
 /** Daily drift with the Theil-Sen line and the alarm level, as inline SVG (no script, prints as is). */
-export function driftChartSvg(m: MonthlyMachineReport, width = 640, height = 200): string {
+export function driftChartSvg(
+  m: MonthlyMachineReport,
+  report: MonthlyReport,
+  width = 640,
+  height = 200,
+): string {
   const pad = { l: 48, r: 12, t: 12, b: 28 };
   if (m.days.length === 0)
     return `<svg class="chart" width="${width}" height="${height}" role="img" aria-label="no daily drift"><text x="${width / 2}" y="${height / 2}" text-anchor="middle">no daily drift in the rate window</text></svg>`;
@@ -154,8 +176,8 @@ export function driftChartSvg(m: MonthlyMachineReport, width = 640, height = 200
   parts.push(
     `<text x="${pad.l - 4}" y="${(Y(y1) + 10).toFixed(1)}" text-anchor="end" class="label">${esc(fmt(y1, 1))}</text>`,
     `<text x="${pad.l - 4}" y="${Y(y0).toFixed(1)}" text-anchor="end" class="label">${esc(fmt(y0, 1))}</text>`,
-    `<text x="${pad.l}" y="${height - 8}" class="label">${isoDate(t0)}</text>`,
-    `<text x="${width - pad.r}" y="${height - 8}" text-anchor="end" class="label">${isoDate(t1)}</text>`,
+    `<text x="${pad.l}" y="${height - 8}" class="label">${isoDate(report, t0)}</text>`,
+    `<text x="${width - pad.r}" y="${height - 8}" text-anchor="end" class="label">${isoDate(report, t1)}</text>`,
   );
   return `<svg class="chart" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" role="img" aria-label="daily drift of ${esc(m.name)} [points]">${parts.join('')}</svg>`;
 }
@@ -201,7 +223,7 @@ export function renderReportHtml(report: MonthlyReport): string {
         `<tr><td>${esc(m.name)}</td><td>${esc(fmt(Number.isFinite(m.coverage) ? 100 * m.coverage : null, 1))} %</td>` +
         `<td>${esc(fmt(m.meanEfficiency === null ? null : 100 * m.meanEfficiency, 2))} %</td>` +
         `<td>${esc(fmt(m.driftPts, 2))}</td><td>${esc(fmt(m.driftChangePts, 2))}</td>` +
-        `<td>${esc(fmt(m.ratePtsPerMonth, 2))}</td><td>${esc(isoDate(m.forecast.atMs) || '–')}</td>` +
+        `<td>${esc(fmt(m.ratePtsPerMonth, 2))}</td><td>${esc(isoDate(report, m.forecast.atMs) || '–')}</td>` +
         `<td>${esc(fmt(m.energyLostMWh, 1))}</td><td>${esc(fmt(m.cost, 0))} ${esc(m.cost === null ? '' : cur)}</td></tr>`,
     )
     .join('');
@@ -210,10 +232,10 @@ export function renderReportHtml(report: MonthlyReport): string {
       (
         m,
       ) => `<section data-machine="${esc(m.slug)}"><h2>${esc(m.name)} <span class="muted">(${esc(m.kind)}, ${esc(m.site)})</span></h2>
-<p>Daily drift against the baseline over the last ${report.rateWindowDays} days [points of efficiency], Theil-Sen line${m.alarmPts !== null ? ' and alarm level' : ''}.
+<p>Daily drift against the baseline over the last ${report.rateWindowDays} local days [points of efficiency], Theil-Sen line${m.alarmPts !== null ? ' and alarm level' : ''}.
 Rate ${esc(fmt(m.ratePtsPerMonth, 2) || '–')} points/month (95 % interval ${esc(fmt(m.rateLowPtsPerMonth, 2) || '–')} to ${esc(fmt(m.rateHighPtsPerMonth, 2) || '–')}).
-Forecast: ${esc(m.forecast.status === 'forecast' ? `alarm level reached about ${isoDate(m.forecast.atMs)} (between ${isoDate(m.forecast.earliestMs) || '?'} and ${isoDate(m.forecast.latestMs) || '?'})` : m.forecast.text)}</p>
-${driftChartSvg(m)}</section>`,
+Forecast: ${esc(m.forecast.status === 'forecast' ? `alarm level reached about ${isoDate(report, m.forecast.atMs)} (between ${isoDate(report, m.forecast.earliestMs) || '?'} and ${isoDate(report, m.forecast.latestMs) || '?'})` : m.forecast.text)}</p>
+${driftChartSvg(m, report)}</section>`,
     )
     .join('\n');
   const totalCost =
@@ -225,7 +247,9 @@ ${driftChartSvg(m)}</section>`,
 <link rel="icon" href="data:,"><style>${STYLE}</style></head>
 <body>
 <h1>Monthly degradation report, ${esc(report.month)}</h1>
-<p class="muted">Period ${isoDate(report.fromMs)} to ${isoDate(report.toMs - 1)} (UTC); generated ${esc(new Date(report.generatedAtMs).toISOString())}.</p>
+<p class="period">Time zone <strong>${esc(report.timeZone)}</strong>: months and days are local calendar time.
+Period from <time datetime="${esc(report.from)}">${esc(report.from)}</time> (included) to <time datetime="${esc(report.to)}">${esc(report.to)}</time> (excluded).</p>
+<p class="muted">Generated ${esc(new Date(report.generatedAtMs).toISOString())}.</p>
 <p class="caution" role="note">${esc(report.caution)}</p>
 <table><thead><tr><th>Machine</th><th>Coverage</th><th>Mean efficiency</th><th>Drift [pts]</th><th>Change [pts]</th><th>Rate [pts/month]</th><th>Alarm reached</th><th>Energy lost [MWh]</th><th>Cost</th></tr></thead>
 <tbody>${summary}</tbody></table>

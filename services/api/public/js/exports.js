@@ -16,7 +16,8 @@ async function load() {
         'tr',
         { 'data-export': x.id },
         el('td', { text: when(x.createdAt) }),
-        el('td', { text: x.periodFrom.slice(0, 7) }),
+        el('td', { text: x.month }),
+        el('td', { class: 'sub', text: `${when(x.periodFrom)} – ${when(x.periodTo)}` }),
         el('td', { text: x.format }),
         el('td', { text: x.status + (x.error ? `: ${x.error}` : '') }),
         el('td', { text: x.sizeBytes === null ? '–' : `${(x.sizeBytes / 1024).toFixed(1)} kB` }),
@@ -34,6 +35,15 @@ async function load() {
   document.getElementById('exports').dataset.loaded = 'true';
 }
 
+/** Sites in more than one time zone: the report's zone is picked here (one zone: the sites' own). */
+async function zones() {
+  const sites = await api('/api/sites');
+  const names = [...new Set(sites.items.map((s) => s.timeZone))].sort();
+  const zone = document.getElementById('zone');
+  zone.replaceChildren(...names.map((z) => el('option', { value: z, text: z })));
+  document.getElementById('zone-pick').hidden = names.length < 2;
+}
+
 const month = document.getElementById('month');
 month.value = lastMonth();
 document.getElementById('make').addEventListener('click', async () => {
@@ -42,7 +52,13 @@ document.getElementById('make').addEventListener('click', async () => {
   try {
     const x = await api('/api/exports', {
       method: 'POST',
-      body: { month: month.value, format: document.getElementById('format').value },
+      body: {
+        month: month.value,
+        format: document.getElementById('format').value,
+        ...(document.getElementById('zone-pick').hidden
+          ? {}
+          : { timeZone: document.getElementById('zone').value }),
+      },
     });
     status.textContent = `report ${x.id} ready`;
     await load();
@@ -52,3 +68,4 @@ document.getElementById('make').addEventListener('click', async () => {
 });
 frame();
 load();
+zones();

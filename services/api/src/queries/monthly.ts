@@ -2,21 +2,37 @@
  * Gathers the input of the monthly degradation report (packages/monitor/src/report) from the
  * database: per machine the valid results of the month with the active baseline evaluated at each
  * result's operating point, the daily drift over the rate window ending at the month's end, the
- * alarm band and the previous month's means. Used by the exports endpoint and by the monthly job.
+ * alarm band and the previous month's means. Used by the exports endpoint (the monthly job in
+ * services/jobs gathers its own from the drift the analysis job stored).
+ *
+ * The month and its days are local calendar time in options.timeZone (the site's zone, chosen by
+ * the route): local midnight to local midnight, so 23 or 25 hours on the days the clocks change.
+ * The day bounds come from the pure calendar (packages/monitor localDays); the database only sorts
+ * results into them (width_bucket), whatever its own time-zone data says.
  */
 
-import { type MonthlyReportInput, monthRange, previousMonth } from '@isentrope/monitor';
+import {
+  addDays,
+  addMonths,
+  type LocalDay,
+  localDays,
+  localMonth,
+  type MonthlyReportInput,
+  previousMonth,
+} from '@isentrope/monitor';
 import type pg from 'pg';
-import { activeBaseline, baselineAt } from './baselines.js';
+import { activeBaseline, type BaselineRow, baselineAt, sqlCoefficients } from './baselines.js';
 import { getBands, listMachines } from './machines.js';
 import { withoutJit } from './nojit.js';
-import { dailyDrift } from './results.js';
+import type { DailyDrift } from './results.js';
 
 export interface GatherMonthlyOptions {
+  /** IANA zone the month and its days are cut in (the site's). */
+  readonly timeZone: string;
   /** Only these machines (ids); default every machine not retired before the month. */
   readonly machineIds?: readonly number[] | undefined;
   readonly price?: { readonly perMWh: number; readonly currency: string } | undefined;
-  /** Days of daily drift for the rate, ending at the month's end; default 90. */
+  /** Local days of daily drift for the rate, ending with the month; default 90. */
   readonly rateWindowDays?: number | undefined;
   /** Time one result stands for [ms]; default the median spacing of the month's results. */
   readonly intervalMs?: number | undefined;
@@ -24,6 +40,35 @@ export interface GatherMonthlyOptions {
 }
 
 type Queryable = Pick<pg.Pool, 'query'>;
+
+/** Daily means of the drift (valid results against the baseline) on the given local days; t = day mid-point. */
+async function localDailyDrift(
+  db: Queryable,
+  machineId: number,
+  days: readonly LocalDay[],
+  baseline: BaselineRow,
+): Promise<DailyDrift[]> {
+  const c = sqlCoefficients(baseline);
+  const first = days[0];
+  if (c === undefined || first === undefined) return [];
+  const bounds = [first.fromMs, ...days.map((d) => d.toMs)].map((ms) => new Date(ms).toISOString());
+  const { rows } = await db.query<{ k: number; drift: number; n: number }>(
+    `SELECT width_bucket(time, $2::timestamptz[]) AS k,
+            100 * avg(efficiency - ($5::float8 + $6::float8 * operating_point + $7::float8 * operating_point ^ 2 + $8::float8 * operating_point ^ 3)) AS drift,
+            count(*)::int AS n
+       FROM results
+      WHERE machine_id = $1 AND time >= $3::timestamptz AND time < $4::timestamptz
+        AND valid AND efficiency IS NOT NULL AND operating_point IS NOT NULL
+      GROUP BY 1 ORDER BY 1`,
+    [machineId, bounds, bounds[0], bounds.at(-1), ...c],
+  );
+  const out: DailyDrift[] = [];
+  for (const r of rows) {
+    const day = days[r.k - 1]; // bucket k (1-based) is [bounds[k-1], bounds[k])
+    if (day !== undefined) out.push({ t: (day.fromMs + day.toMs) / 2, driftPts: r.drift, n: r.n });
+  }
+  return out;
+}
 
 async function monthMeans(
   db: Queryable,
@@ -75,15 +120,17 @@ function mean(values: readonly number[]): number | null {
   return n > 0 ? s / n : null;
 }
 
-/** The report input for `month` ('YYYY-MM', UTC). */
+/** The report input for `month` ('YYYY-MM' in options.timeZone). */
 export async function gatherMonthlyInput(
   pool: pg.Pool,
   month: string,
-  options: GatherMonthlyOptions = {},
+  options: GatherMonthlyOptions,
 ): Promise<MonthlyReportInput> {
-  const { fromMs, toMs } = monthRange(month);
-  const prev = monthRange(previousMonth(month));
+  const { timeZone } = options;
+  const { fromMs, toMs } = localMonth(month, timeZone);
+  const prev = localMonth(previousMonth(month), timeZone);
   const windowDays = options.rateWindowDays ?? 90;
+  const rateDays = localDays(timeZone, addDays(`${addMonths(month, 1)}-01`, -windowDays), windowDays);
   const machines = (await listMachines(pool)).filter(
     (m) =>
       (options.machineIds === undefined || options.machineIds.includes(m.id)) &&
@@ -98,7 +145,7 @@ export async function gatherMonthlyInput(
     const days =
       baseline === undefined
         ? []
-        : await withoutJit(pool, (c) => dailyDrift(c, m.id, toMs - windowDays * 86_400_000, toMs, baseline));
+        : await withoutJit(pool, (c) => localDailyDrift(c, m.id, rateDays, baseline));
     const prevEff = mean(previous.efficiency);
     const prevDrift = mean(
       previous.efficiency.map((e, i) => 100 * (e - (previous.baseline[i] ?? Number.NaN))),
@@ -124,6 +171,7 @@ export async function gatherMonthlyInput(
   }
   return {
     month,
+    timeZone,
     generatedAtMs: options.generatedAtMs ?? Date.now(),
     machines: out,
     price: options.price,

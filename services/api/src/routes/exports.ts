@@ -1,10 +1,18 @@
+/**
+ * Exports: list, make now, download. A monthly export covers a calendar month in the sites' time
+ * zone (local midnight on the 1st to local midnight on the next 1st), or in the zone asked for;
+ * the stored period is that span in UTC. Exports made before months followed the site zone cover
+ * UTC months; they are listed and served as they were made (see services/jobs/src/monthly/job.ts).
+ */
 import { createHash } from 'node:crypto';
 import {
+  assertTimeZone,
   buildMonthlyReport,
-  monthRange,
+  localMonth,
   renderReportCsv,
   renderReportHtml,
   renderReportJson,
+  sharedMonthZone,
 } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
@@ -38,8 +46,9 @@ const exportSchema = z.object({
   id: z.number().int(),
   kind: z.string(),
   machineId: z.number().int().nullable(),
-  periodFrom: z.string(),
-  periodTo: z.string(),
+  month: z.string().describe("The calendar month 'YYYY-MM' the period covers (in the zone it was cut in)"),
+  periodFrom: z.string().describe('Start of the period, UTC'),
+  periodTo: z.string().describe('End of the period (excluded), UTC'),
   format: z.enum(['csv', 'json', 'html', 'pdf']),
   status: z.enum(['pending', 'done', 'failed']),
   sizeBytes: z.number().int().nullable(),
@@ -67,11 +76,20 @@ interface ExportRow {
 
 const COLS = `id::int, kind, machine_id, period_from, period_to, format, status, octet_length(content) AS size, checksum, error, created_by, created_at`;
 
+/**
+ * The month of a stored period: its mid-point's UTC month. A local month's mid-point lies at least
+ * 13 days from either end, so it falls in the same month in every zone (offsets are within ±14 h).
+ */
+function periodMonth(from: Date, to: Date): string {
+  return new Date((from.getTime() + to.getTime()) / 2).toISOString().slice(0, 7);
+}
+
 function exportOut(r: ExportRow): z.infer<typeof exportSchema> {
   return {
     id: r.id,
     kind: r.kind,
     machineId: r.machine_id,
+    month: periodMonth(r.period_from, r.period_to),
     periodFrom: r.period_from.toISOString(),
     periodTo: r.period_to.toISOString(),
     format: r.format,
@@ -85,14 +103,45 @@ function exportOut(r: ExportRow): z.infer<typeof exportSchema> {
   };
 }
 
+function isTimeZone(zone: string): boolean {
+  try {
+    assertTimeZone(zone);
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/** The zone an export is cut in when none is asked for: the machines' site zone, when their months agree. */
+export async function exportTimeZone(
+  pool: ApiContext['pool'],
+  month: string,
+  machineId: number | undefined,
+): Promise<string> {
+  const { rows } = await pool.query<{ time_zone: string }>(
+    `SELECT DISTINCT s.time_zone FROM sites s JOIN machines m ON m.site_id = s.id
+      WHERE $1::int IS NULL OR m.id = $1`,
+    [machineId ?? null],
+  );
+  const zones = rows.map((r) => r.time_zone);
+  const zone = sharedMonthZone(month, zones);
+  if (zone === undefined)
+    throw new ApiError('API_UNPROCESSABLE', {
+      reason: `the machines are at sites in time zones whose month ${month} differs (${zones.sort().join(', ')}); ask for one with timeZone, or for one machine`,
+    });
+  return zone;
+}
+
 /** Render the month's report in one format (the monthly job calls the same builder and renderers). */
 export async function renderMonthlyExport(
   ctx: Pick<ApiContext, 'pool' | 'energyPrice' | 'now'>,
   month: string,
+  timeZone: string,
   format: Format,
   machineId: number | undefined,
 ): Promise<string> {
   const input = await gatherMonthlyInput(ctx.pool, month, {
+    timeZone,
     machineIds: machineId === undefined ? undefined : [machineId],
     price: ctx.energyPrice,
     generatedAtMs: ctx.now(),
@@ -149,7 +198,14 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
           month: z
             .string()
             .regex(/^\d{4}-(0[1-9]|1[0-2])$/)
-            .describe("Calendar month 'YYYY-MM' (UTC)"),
+            .describe("Calendar month 'YYYY-MM', local to timeZone"),
+          timeZone: z
+            .string()
+            .refine(isTimeZone, {
+              message: 'not an IANA time zone; use a name such as "Europe/Berlin" or "UTC"',
+            })
+            .optional()
+            .describe("IANA zone of the month and its days; default the machines' site zone"),
           format: z.enum(FORMATS).default('csv'),
           machineId: z.number().int().positive().optional(),
         }),
@@ -159,12 +215,13 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
     async (request, reply) => {
       const { month, format, machineId } = request.body;
       const actor = request.principal!;
-      const { fromMs, toMs } = monthRange(month);
+      const timeZone = request.body.timeZone ?? (await exportTimeZone(ctx.pool, month, machineId));
+      const { fromMs, toMs } = localMonth(month, timeZone);
       let content: string;
       let status: 'done' | 'failed' = 'done';
       let error: string | null = null;
       try {
-        content = await renderMonthlyExport(ctx, month, format, machineId);
+        content = await renderMonthlyExport(ctx, month, timeZone, format, machineId);
       } catch (e) {
         // A failed export is recorded with its reason, so the list shows what went wrong.
         status = 'failed';
@@ -221,7 +278,7 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       if (r === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'export', id: request.params.id });
       if (r.status !== 'done' || r.content === null || r.format === 'pdf')
         throw new ApiError('API_EXPORT_NOT_READY', { id: r.id, status: r.status });
-      const month = r.period_from.toISOString().slice(0, 7);
+      const month = periodMonth(r.period_from, r.period_to);
       const name = `isentrope-degradation-${month}${r.machine_id === null ? '' : `-machine-${r.machine_id}`}.${r.format}`;
       return reply
         .type(CONTENT_TYPES[r.format])

@@ -1,29 +1,45 @@
 /**
- * Monthly degradation export: on the 1st at 02:00 site time (scheduler), the report of every
- * complete calendar month (UTC, as the report builder defines months) not yet exported is built
- * with buildMonthlyReport (packages/monitor/src/report) from the stored results and the drift
- * series of the analysis job, rendered as CSV, JSON and printable HTML, and stored in `exports`
- * (kind 'monthly-degradation', created_by 'system', SHA-256 checksum). A missed run catches up.
+ * Monthly degradation export. Each hourly tick (scheduler) exports every month that has ended in
+ * a site's time zone at least settleMs ago (default 2 h, the settle time the 02:00-on-the-1st
+ * schedule used to give) and has no system export yet, within the look-back. A month runs from
+ * local midnight on the 1st to local midnight on the next 1st in the site's zone, and its daily
+ * drift means are local days (23 or 25 hours when the clocks change); see
+ * packages/monitor/src/local-calendar.ts. Sites whose zones give the month the same bounds share
+ * one export (due.ts). The report is built with buildMonthlyReport from the stored results and the
+ * drift series of the analysis job, rendered as CSV, JSON and printable HTML, and stored in
+ * `exports` (kind 'monthly-degradation', created_by 'system', SHA-256 checksum), keyed by its
+ * period. A missed run catches up.
+ *
+ * Exports made before months followed the site zone cover UTC months (their HTML says "(UTC)",
+ * their JSON bounds end in 'Z'; their CSV states no period). They are kept as they were: for a UTC
+ * site they are the month's export; for a site in another zone their period differs, so the months
+ * of the look-back get a site-time export beside them, and older months keep only the UTC one.
  */
 import { createHash } from 'node:crypto';
-import type pg from 'pg';
-// The monitor package's entry does not re-export the report module yet; reached by path, as the API does.
 import {
+  addDays,
+  addMonths,
   buildMonthlyReport,
+  localDays,
+  localMonth,
   type MonthlyMachineInput,
   type MonthlyReportInput,
-  monthRange,
   previousMonth,
   renderReportCsv,
   renderReportHtml,
   renderReportJson,
-} from '../../../../packages/monitor/src/report/index.js';
+  sharedMonthZone,
+} from '@isentrope/monitor';
+import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
-import { dailyDriftMeans } from '../analysis/job.js';
+import { JobsError } from '../errors.js';
 import type { Queryable } from '../queries/machines.js';
+import { localDailyDriftMeans } from './days.js';
+import { dueMonths } from './due.js';
 
 export const MONTHLY_EXPORT_KIND = 'monthly-degradation';
 const FORMATS = ['csv', 'json', 'html'] as const;
+const HOUR_MS = 3_600_000;
 
 export interface MonthlyOptions {
   readonly nowMs: number;
@@ -35,12 +51,15 @@ export interface MonthlyOptions {
   readonly minPointsPerDay?: number;
   /** Months to look back for one not yet exported; default 3. */
   readonly lookBackMonths?: number;
+  /** Time after a month's end in the site's zone before it is exported [ms]; default 2 h. */
+  readonly settleMs?: number;
 }
 
-/** 'YYYY-MM' of a time [ms], UTC. */
-export function monthOf(ms: number): string {
-  const d = new Date(ms);
-  return `${d.getUTCFullYear()}-${String(d.getUTCMonth() + 1).padStart(2, '0')}`;
+export interface GatherMonthOptions extends Omit<MonthlyOptions, 'lookBackMonths' | 'settleMs'> {
+  /** Zone the month and its days are cut in; default the zone of the machines' sites. */
+  readonly timeZone?: string;
+  /** Only machines of sites in these zones; default every site. */
+  readonly siteTimeZones?: readonly string[];
 }
 
 interface MonthRows {
@@ -100,38 +119,47 @@ async function monthRows(db: Queryable, machineId: number, fromMs: number, toMs:
   return out;
 }
 
-/** The report input of a month from the results and their drift series. */
+/** The report input of a month, in a site time zone, from the results and their drift series. */
 export async function gatherMonth(
   pool: pg.Pool,
   month: string,
-  options: Omit<MonthlyOptions, 'lookBackMonths'>,
+  options: GatherMonthOptions,
 ): Promise<MonthlyReportInput> {
-  const { fromMs, toMs } = monthRange(month);
-  const prev = monthRange(previousMonth(month));
-  const windowDays = options.rateWindowDays ?? 90;
-  const machines = await pool.query<{
+  const rows = await pool.query<{
     id: number;
     site: string;
     slug: string;
     name: string;
     kind: MonthlyMachineInput['kind'];
+    time_zone: string;
+    retired_ms: number | null;
   }>(
-    `SELECT m.id, s.slug AS site, m.slug, m.name, m.kind FROM machines m JOIN sites s ON s.id = m.site_id
-      WHERE m.retired_at IS NULL OR m.retired_at > to_timestamp($1::float8 / 1000)
+    `SELECT m.id, s.slug AS site, m.slug, m.name, m.kind, s.time_zone,
+            (extract(epoch FROM m.retired_at) * 1000)::float8 AS retired_ms
+       FROM machines m JOIN sites s ON s.id = m.site_id
       ORDER BY s.slug, m.slug`,
-    [fromMs],
   );
+  const sites = options.siteTimeZones;
+  const selected = rows.rows.filter((m) => sites === undefined || sites.includes(m.time_zone));
+  const zones = selected.map((m) => m.time_zone);
+  const timeZone = options.timeZone ?? sharedMonthZone(month, zones);
+  if (timeZone === undefined)
+    throw new JobsError(
+      'JOBS_BAD_CONFIG',
+      `the machines are at sites in time zones whose month ${month} differs (${[...new Set(zones)].join(', ')}); name the report's timeZone and siteTimeZones`,
+      { month, timeZones: [...new Set(zones)] },
+    );
+  const { fromMs, toMs } = localMonth(month, timeZone);
+  const prev = localMonth(previousMonth(month), timeZone);
+  const windowDays = options.rateWindowDays ?? 90;
+  // The rate window: the windowDays local days that end with the month.
+  const rateDays = localDays(timeZone, addDays(`${addMonths(month, 1)}-01`, -windowDays), windowDays);
   const out: MonthlyMachineInput[] = [];
-  for (const m of machines.rows) {
+  for (const m of selected) {
+    if (m.retired_ms !== null && m.retired_ms <= fromMs) continue;
     const cur = await monthRows(pool, m.id, fromMs, toMs);
     const before = await monthRows(pool, m.id, prev.fromMs, prev.toMs);
-    const days = await dailyDriftMeans(
-      pool,
-      m.id,
-      toMs - windowDays * 86_400_000,
-      toMs,
-      options.minPointsPerDay ?? 60,
-    );
+    const days = await localDailyDriftMeans(pool, m.id, rateDays, options.minPointsPerDay ?? 60);
     const bands = await bandsFor(pool, m.id, m.kind);
     out.push({
       machineId: m.id,
@@ -148,6 +176,7 @@ export async function gatherMonth(
   }
   return {
     month,
+    timeZone,
     generatedAtMs: options.nowMs,
     machines: out,
     price: options.price,
@@ -156,23 +185,29 @@ export async function gatherMonth(
 }
 
 export interface MonthlyRunStats {
+  /** Months exported in this run, 'YYYY-MM' (once per zone group). */
   readonly months: readonly string[];
+  /** The same with their zone and bounds (ISO 8601 with UTC offsets). */
+  readonly periods: readonly { month: string; timeZone: string; from: string; to: string }[];
   readonly exports: number;
 }
 
-/** Export every complete month (within the look-back) that has no system export yet. */
+/** Export every month that has ended in a site's zone (within the look-back) and has no system export yet. */
 export async function runMonthlyExport(pool: pg.Pool, options: MonthlyOptions): Promise<MonthlyRunStats> {
+  const zones = await pool.query<{ time_zone: string }>(
+    `SELECT DISTINCT s.time_zone FROM sites s WHERE EXISTS (SELECT 1 FROM machines m WHERE m.site_id = s.id)`,
+  );
+  const due = dueMonths(
+    options.nowMs,
+    zones.rows.map((r) => r.time_zone),
+    options.lookBackMonths ?? 3,
+    options.settleMs ?? 2 * HOUR_MS,
+  );
   const months: string[] = [];
-  let month = previousMonth(monthOf(options.nowMs));
-  for (let k = 0; k < (options.lookBackMonths ?? 3); k++) {
-    months.unshift(month);
-    month = previousMonth(month);
-  }
-  const done: string[] = [];
+  const periods: { month: string; timeZone: string; from: string; to: string }[] = [];
   let written = 0;
-  for (const mo of months) {
-    const { fromMs, toMs } = monthRange(mo);
-    if (toMs > options.nowMs) continue;
+  for (const { month, timeZones, period } of due) {
+    const { fromMs, toMs } = period;
     const have = await pool.query<{ format: string }>(
       `SELECT format FROM exports WHERE kind = $1 AND machine_id IS NULL AND created_by = 'system' AND status = 'done'
           AND period_from = to_timestamp($2::float8 / 1000) AND period_to = to_timestamp($3::float8 / 1000)`,
@@ -180,7 +215,9 @@ export async function runMonthlyExport(pool: pg.Pool, options: MonthlyOptions): 
     );
     const missing = FORMATS.filter((f) => !have.rows.some((r) => r.format === f));
     if (missing.length === 0) continue;
-    const report = buildMonthlyReport(await gatherMonth(pool, mo, options));
+    const report = buildMonthlyReport(
+      await gatherMonth(pool, month, { ...options, timeZone: period.timeZone, siteTimeZones: timeZones }),
+    );
     for (const format of missing) {
       const text =
         format === 'csv'
@@ -205,7 +242,8 @@ export async function runMonthlyExport(pool: pg.Pool, options: MonthlyOptions): 
       );
       written++;
     }
-    done.push(mo);
+    months.push(month);
+    periods.push({ month, timeZone: period.timeZone, from: period.from, to: period.to });
   }
-  return { months: done, exports: written };
+  return { months, periods, exports: written };
 }
