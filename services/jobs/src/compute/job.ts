@@ -7,13 +7,14 @@ import type pg from 'pg';
 import { JobsError } from '../errors.js';
 import { loadMachines } from '../queries/machines.js';
 import {
+  copyResultsRange,
   ensureResultPartitions,
   readComputeWatermarks,
-  replaceResultsRange,
   writeComputeWatermark,
   writeComputeWatermarks,
   writeResults,
 } from '../queries/results.js';
+import { encodeResultRows } from '../queries/results-copy.js';
 import { earliestSample, readSamples } from '../queries/samples.js';
 import { defaultFluidResolver, type FluidResolver, type PreparedMachine, prepareMachine } from './config.js';
 import {
@@ -24,6 +25,7 @@ import {
   type ResultRow,
   resolveComputeOptions,
 } from './pipeline.js';
+import { ComputeWorkers, defaultComputeThreads } from './workers.js';
 
 export interface ComputeJobOptions extends ComputeOptions {
   /** Now [ms]; default Date.now(). */
@@ -79,6 +81,7 @@ export async function computeMachineRange(
   o: ResolvedComputeOptions,
   chunkMs = 86_400_000,
   onChunk?: (doneToMs: number, points: number) => void,
+  workers?: ComputeWorkers,
 ): Promise<number> {
   const ids = allTagIds(machine);
   // Chunks end on segment boundaries so each segment is read whole.
@@ -109,19 +112,34 @@ export async function computeMachineRange(
     const samples = await (next as Promise<Map<number, RawSeries>>);
     const following = ranges[k + 1];
     next = following === undefined ? undefined : read(following);
-    const rows = computeRange(machine, samples, a, b, o);
+    // On a worker the rows come back encoded; in process they are encoded here.
+    const { body, rows } =
+      workers === undefined
+        ? encodeInProcess(machine, samples, a, b, o)
+        : await workers.compute(machine.row, samples, a, b, o);
     await writing;
     writing = settleLater(
       (async () => {
         await ensureResultPartitions(pool, a, b);
-        await replaceResultsRange(pool, machine.row.id, a, b, rows);
-        onChunk?.(b, rows.length);
+        await copyResultsRange(pool, machine.row.id, a, b, body);
+        onChunk?.(b, rows);
       })(),
     );
-    points += rows.length;
+    points += rows;
   }
   await writing;
   return points;
+}
+
+function encodeInProcess(
+  machine: PreparedMachine,
+  samples: ReadonlyMap<number, RawSeries>,
+  fromMs: number,
+  toMs: number,
+  o: ResolvedComputeOptions,
+): { body: Buffer; rows: number } {
+  const rows = computeRange(machine, samples, fromMs, toMs, o);
+  return { body: encodeResultRows(rows, machine.row.id, fromMs, toMs), rows: rows.length };
 }
 
 /** One machine's share of an incremental run. */
@@ -243,7 +261,12 @@ export interface BackfillOptions extends ComputeOptions {
   readonly onProgress?: (done: number, total: number) => void;
   /** Samples read per chunk [ms]; default one day. */
   readonly chunkMs?: number;
-  /** Machines computed at the same time (their database waits overlap); default 3. */
+  /**
+   * Compute worker threads; default one per core (at most 4). 0 computes on the main thread, as
+   * does a backfill with its own `fluids` resolver (a function cannot be sent to a worker).
+   */
+  readonly workers?: number;
+  /** Machines in progress at the same time (their database waits overlap); default workers + 1, at least 3. */
   readonly concurrency?: number;
   /**
    * Move each machine's incremental watermark to the end of the range (when it is behind),
@@ -257,6 +280,8 @@ export interface BackfillStats {
   readonly machines: number;
   readonly points: number;
   readonly ms: number;
+  /** Compute worker threads used (0: computed on the main thread). */
+  readonly workers: number;
 }
 
 /**
@@ -285,9 +310,10 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
   options.onProgress?.(0, total);
   // Every machine is prepared first, so a bad configuration fails before any row is written.
   const machines = rows.map((row) => prepareMachine(row, options.fluids ?? defaultFluidResolver));
-  // A few machines at once: while one computes (one core), the others wait on the database (the
-  // other core); more gains nothing on two cores.
-  const lanes = Math.max(1, Math.min(options.concurrency ?? 3, machines.length));
+  const threads = options.fluids === undefined ? (options.workers ?? defaultComputeThreads()) : 0;
+  const workers = threads > 0 ? new ComputeWorkers(threads) : undefined;
+  // A few machines at once, so every worker has work while the others wait on the database.
+  const lanes = Math.max(1, Math.min(options.concurrency ?? Math.max(3, threads + 1), machines.length));
   let nextMachine = 0;
   const lane = async (): Promise<void> => {
     for (let k = nextMachine++; k < machines.length; k = nextMachine++) {
@@ -302,10 +328,14 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
           done += n;
           options.onProgress?.(done, total);
         },
+        workers,
       );
     }
   };
-  await Promise.all(Array.from({ length: lanes }, lane));
+  // Every lane runs to its end before the workers close; then the first failure is thrown.
+  const settled = await Promise.allSettled(Array.from({ length: lanes }, lane));
+  await workers?.close();
+  for (const s of settled) if (s.status === 'rejected') throw s.reason;
   if (options.advanceWatermark === true) {
     const marks = await readComputeWatermarks(
       pool,
@@ -321,5 +351,5 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
         .map((m) => ({ machineId: m.row.id, configHash: m.configHash, watermarkMs: toMs })),
     );
   }
-  return { machines: rows.length, points: done, ms: Date.now() - started };
+  return { machines: rows.length, points: done, ms: Date.now() - started, workers: threads };
 }

@@ -57,23 +57,24 @@ export interface ModelTemplate {
 
 /** The machine input of an input vector x (slots above; NaN = absent). */
 export function machineInput(t: ModelTemplate, x: ArrayLike<number>, o = 0): MachineInput {
-  const opt = (k: number): number | undefined => {
-    const v = x[o + k] as number;
-    return Number.isNaN(v) ? undefined : v;
-  };
-  const electricalPower = opt(IN_ELECTRICAL_POWER);
+  const electricalPower = present(x[o + IN_ELECTRICAL_POWER] as number);
   const driverEfficiency = electricalPower !== undefined ? t.driverEfficiency : undefined;
   return {
     kind: t.kind,
     fluid: t.fluid,
     inlet: { p: x[o + IN_P_IN] as number, T: x[o + IN_T_IN] as number },
     outlet: { p: x[o + IN_P_OUT] as number, T: x[o + IN_T_OUT] as number },
-    massFlow: opt(IN_MASS_FLOW),
-    volumeFlow: opt(IN_VOLUME_FLOW),
-    shaftPower: opt(IN_SHAFT_POWER),
+    massFlow: present(x[o + IN_MASS_FLOW] as number),
+    volumeFlow: present(x[o + IN_VOLUME_FLOW] as number),
+    shaftPower: present(x[o + IN_SHAFT_POWER] as number),
     electricalPower: driverEfficiency !== undefined ? electricalPower : undefined,
     driverEfficiency,
   };
+}
+
+/** An input slot's value, or undefined for an absent one (NaN). */
+function present(v: number): number | undefined {
+  return Number.isNaN(v) ? undefined : v;
 }
 
 /** The outputs of a result in OUT_* order (NaN when absent). */
@@ -179,6 +180,18 @@ export function combine(lin: Linearisation, u: ArrayLike<number>, o: number, out
  * (about 95 %, GUM 6.2-6.3); otherwise the reading lies inside the instruments' own uncertainty.
  */
 export function reflag(r: MachineResult, u: Float64Array): MachineResult {
+  // Nothing to decide (the usual point): the result stands as it is, with no copy made.
+  if (
+    !r.flags.some(
+      (f) =>
+        f === 'second-law-violation' || f === 'efficiency-above-one' || f === 'outlet-colder-than-isentropic',
+    ) &&
+    !((r.entropyGeneration ?? 0) < -DEFAULT_ENTROPY_TOLERANCE) &&
+    !((r.isentropicEfficiency ?? 0) > 1 + 1e-9) &&
+    !((r.hydraulicEfficiency ?? 0) > 1 + 1e-9) &&
+    !((r.fanEfficiency ?? 0) > 1 + 1e-9)
+  )
+    return r;
   const flags: MachineFlag[] = r.flags.filter(
     (f) =>
       f !== 'second-law-violation' && f !== 'efficiency-above-one' && f !== 'outlet-colder-than-isentropic',

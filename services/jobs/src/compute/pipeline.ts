@@ -284,8 +284,11 @@ function prepareChunk(
   const u = new Float64Array(n * N_INPUTS);
   const status = new Uint8Array(n);
   // Uncertainty from the reading in the tag unit (a percent of reading follows it; gauge stays gauge).
+  // The aligned (tag-unit-scaled) column of each role, looked up once rather than per point.
+  const alignedOf = new Map<string, Float64Array>();
+  for (const tag of tags) alignedOf.set(tag.role, (aligned.tags.get(tag.role) as AlignedTag).value);
   const uOf = (tag: PreparedTag, i: number): number => {
-    const raw = (((aligned.tags.get(tag.role) as AlignedTag).value[i] as number) - tag.intercept) / tag.slope;
+    const raw = (((alignedOf.get(tag.role) as Float64Array)[i] as number) - tag.intercept) / tag.slope;
     const ui = tag.uncertaintySI(raw);
     return ui > 0 && Number.isFinite(ui) ? ui : 0;
   };
@@ -315,6 +318,7 @@ function prepareChunk(
   const minRatio = kind === 'fan' ? MIN_RUNNING_RATIO_FAN : MIN_RUNNING_RATIO;
   const driverEfficiency = machine.row.driverEfficiency ?? undefined;
   const tagOf = (role: string): PreparedTag => machine.tags.get(role) as PreparedTag;
+  const slotTags = ROLE_SLOTS.map(([role, slot]) => [tagOf(role), slot] as const);
   for (let i = 0; i < n; i++) {
     const a = pIn[i] as number;
     const b = tIn[i] as number;
@@ -343,7 +347,10 @@ function prepareChunk(
       continue;
     }
     status[i] = ST_MODEL;
-    for (const [role, slot] of ROLE_SLOTS) u[o8 + slot] = uOf(tagOf(role), i);
+    for (let k = 0; k < slotTags.length; k++) {
+      const [tag, slot] = slotTags[k] as readonly [PreparedTag, number];
+      u[o8 + slot] = uOf(tag, i);
+    }
     if (m !== undefined && Number.isFinite(m)) {
       x[o8 + IN_MASS_FLOW] = m;
       u[o8 + IN_MASS_FLOW] = uOf(tagOf('massFlow'), i);
@@ -570,7 +577,6 @@ function computeSegment(
   const steady = detectSteadyState(steadyInput, { valid: validation.valid, t: view.t });
 
   const tagResults = [...validation.tags];
-  const machineId = machine.row.id;
   for (let j = ia; j < ib; j++) {
     const e = evals[j - ia] as PointEval;
     const i = j - g0;
@@ -585,8 +591,12 @@ function computeSegment(
     for (const f of e.flags) flags.push(f);
     const isSteady = steady.steady[i] === 1;
     if (!isSteady) flags.push('not-steady');
-    const valid = validation.valid[i] === 1 && e.modelValid;
-    rows.push(makeRow(machineId, ch.aligned.t[j] as number, e.row, isSteady, flags, valid));
+    // The point's row object is completed in place (one object per point, no copy).
+    const row = e.row;
+    row.steady = isSteady;
+    row.flags = flags;
+    row.valid = validation.valid[i] === 1 && e.modelValid;
+    rows.push(row);
   }
 }
 
@@ -601,52 +611,14 @@ function nearPoint(lp: LinPoint, x: Float64Array, j: number, tolerance: number):
   return true;
 }
 
-function makeRow(
-  machineId: number,
-  time: number,
-  p: PointRow,
-  steady: boolean,
-  flags: readonly string[],
-  valid: boolean,
-): ResultRow {
-  return {
-    machineId,
-    time,
-    pIn: p.pIn,
-    tIn: p.tIn,
-    hIn: p.hIn,
-    sIn: p.sIn,
-    pOut: p.pOut,
-    tOut: p.tOut,
-    hOut: p.hOut,
-    sOut: p.sOut,
-    tOutS: p.tOutS,
-    hOutS: p.hOutS,
-    massFlow: p.massFlow,
-    efficiency: p.efficiency,
-    uEfficiency: p.uEfficiency,
-    polytropicEfficiency: p.polytropicEfficiency,
-    uPolytropicEfficiency: p.uPolytropicEfficiency,
-    specificWork: p.specificWork,
-    uSpecificWork: p.uSpecificWork,
-    power: p.power,
-    uPower: p.uPower,
-    entropyGeneration: p.entropyGeneration,
-    uEntropyGeneration: p.uEntropyGeneration,
-    operatingPoint: p.operatingPoint,
-    steady,
-    flags,
-    valid,
-  };
-}
-
 function firstFinite(a: ArrayLike<number> | undefined): number {
   if (a === undefined) return 0;
   for (let i = 0; i < a.length; i++) if (Number.isFinite(a[i] as number)) return a[i] as number;
   return 0;
 }
 
-type PointRow = Omit<ResultRow, 'machineId' | 'time' | 'steady' | 'valid' | 'flags'>;
+/** A result row while it is being filled (steady, flags and valid are set last). */
+type PointRow = { -readonly [K in keyof ResultRow]: ResultRow[K] };
 
 interface PointEval {
   readonly row: PointRow;
@@ -656,8 +628,18 @@ interface PointEval {
   readonly impossible: boolean;
 }
 
-function baseRow(pIn: number, tIn: number, pOut: number, tOut: number): PointRow {
+function baseRow(
+  machineId: number,
+  time: number,
+  pIn: number,
+  tIn: number,
+  pOut: number,
+  tOut: number,
+): PointRow {
+  // Every field in one fixed order, so all rows share one object shape.
   return {
+    machineId,
+    time,
     pIn: fin(pIn),
     tIn: fin(tIn),
     hIn: null,
@@ -680,6 +662,9 @@ function baseRow(pIn: number, tIn: number, pOut: number, tOut: number): PointRow
     entropyGeneration: null,
     uEntropyGeneration: null,
     operatingPoint: null,
+    steady: false,
+    flags: NO_FLAGS,
+    valid: false,
   };
 }
 
@@ -733,6 +718,8 @@ function evaluatePoint(
     const col = (role: string): number => ch.si.get(role)?.[j] ?? Number.NaN;
     return {
       row: baseRow(
+        machine.row.id,
+        ch.aligned.t[j] as number,
         col('inletPressure'),
         col('inletTemperature'),
         col('outletPressure'),
@@ -744,7 +731,7 @@ function evaluatePoint(
       impossible: false,
     };
   }
-  const base = baseRow(pIn, tIn, pOut, tOut);
+  const base = baseRow(machine.row.id, ch.aligned.t[j] as number, pIn, tIn, pOut, tOut);
   const flags: string[] = [];
   // Gauge/absolute mix-ups are found over time by the instrument step of the alerts tick
   // (services/jobs/src/instrument), not per point here: one point cannot tell them apart.
@@ -799,30 +786,27 @@ function evaluatePoint(
       : kind === 'fan' && r.fanEfficiency !== undefined
         ? [r.fanEfficiency, OUT_ETA_FAN]
         : [r.isentropicEfficiency, OUT_ETA];
-  const row: PointRow = {
-    pIn: base.pIn,
-    tIn: base.tIn,
-    hIn: r.inlet.h,
-    sIn: r.inlet.s,
-    pOut: base.pOut,
-    tOut: r.outlet.T,
-    hOut: r.outlet.h,
-    sOut: r.outlet.s,
-    tOutS: r.outletIsentropic.T,
-    hOutS: r.outletIsentropic.h,
-    massFlow: fin(r.massFlow),
-    efficiency: fin(primary),
-    uEfficiency: withU(primary, primaryU),
-    polytropicEfficiency: fin(r.polytropicEfficiency),
-    uPolytropicEfficiency: withU(r.polytropicEfficiency, OUT_ETA_POLY),
-    specificWork: fin(r.specificWork),
-    uSpecificWork: withU(r.specificWork, OUT_WORK),
-    power: fin(power),
-    uPower: withU(power, OUT_POWER),
-    entropyGeneration: fin(r.entropyGeneration),
-    uEntropyGeneration: withU(r.entropyGeneration, OUT_SGEN),
-    operatingPoint: fin(op),
-  };
+  // Filled into the point's row object (one object per point).
+  base.hIn = r.inlet.h;
+  base.sIn = r.inlet.s;
+  base.tOut = r.outlet.T;
+  base.hOut = r.outlet.h;
+  base.sOut = r.outlet.s;
+  base.tOutS = r.outletIsentropic.T;
+  base.hOutS = r.outletIsentropic.h;
+  base.massFlow = fin(r.massFlow);
+  base.efficiency = fin(primary);
+  base.uEfficiency = withU(primary, primaryU);
+  base.polytropicEfficiency = fin(r.polytropicEfficiency);
+  base.uPolytropicEfficiency = withU(r.polytropicEfficiency, OUT_ETA_POLY);
+  base.specificWork = fin(r.specificWork);
+  base.uSpecificWork = withU(r.specificWork, OUT_WORK);
+  base.power = fin(power);
+  base.uPower = withU(power, OUT_POWER);
+  base.entropyGeneration = fin(r.entropyGeneration);
+  base.uEntropyGeneration = withU(r.entropyGeneration, OUT_SGEN);
+  base.operatingPoint = fin(op);
+  const row = base;
   let noEfficiency = false;
   let secondLaw = false;
   let impossibleFlag = false;

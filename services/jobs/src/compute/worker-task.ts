@@ -1,0 +1,38 @@
+/**
+ * The task a compute worker runs: one machine's results for [fromMs, toMs), computed by the same
+ * pipeline as in-process runs and encoded as a COPY body where they were computed, so only bytes
+ * travel back to the main thread (the rows as objects would cost more to copy than to encode).
+ */
+import { encodeResultRows } from '../queries/results-copy.js';
+import { defaultFluidResolver, type MachineRow, type PreparedMachine, prepareMachine } from './config.js';
+import { computeRange, type RawSeries, type ResolvedComputeOptions } from './pipeline.js';
+
+export interface ComputeTask {
+  readonly machine: MachineRow;
+  readonly samples: ReadonlyMap<number, RawSeries>;
+  readonly fromMs: number;
+  readonly toMs: number;
+  readonly options: ResolvedComputeOptions;
+}
+
+export interface ComputeTaskResult {
+  /** The COPY body, in a buffer of its own size (it is copied back to the main thread). */
+  readonly body: Uint8Array;
+  readonly rows: number;
+}
+
+/** Prepared machines by id and configuration, so a worker prepares each machine once. */
+const prepared = new Map<string, PreparedMachine>();
+
+export function runComputeTask(task: ComputeTask): ComputeTaskResult {
+  const key = `${task.machine.id}:${JSON.stringify(task.machine)}`;
+  let machine = prepared.get(key);
+  if (machine === undefined) {
+    machine = prepareMachine(task.machine, defaultFluidResolver);
+    prepared.set(key, machine);
+  }
+  const rows = computeRange(machine, task.samples, task.fromMs, task.toMs, task.options);
+  // slice(): a tight copy, since cloning a view would copy the encoder's whole buffer.
+  const body = encodeResultRows(rows, task.machine.id, task.fromMs, task.toMs).slice();
+  return { body, rows: rows.length };
+}

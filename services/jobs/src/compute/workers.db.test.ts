@@ -1,0 +1,80 @@
+import { dryAir } from '@isentrope/thermo';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
+import { readResults } from '../queries/results.js';
+import {
+  type SeededMachine,
+  type SyntheticMachine,
+  seedMachine,
+  seedSamples,
+  seedSite,
+} from '../testing/synthetic.js';
+import { backfill } from './job.js';
+import type { ResultRow } from './pipeline.js';
+
+// INVENTED data (testing/synthetic.ts): an expander and a compressor on dry air, the default
+// fluid model, so the worker threads (which resolve fluids themselves) can compute them.
+const T0 = Date.UTC(2026, 1, 2);
+const H = 3_600_000;
+const END = T0 + 20 * H;
+const MACHINES: readonly SyntheticMachine[] = [
+  {
+    slug: 'ex-9',
+    kind: 'turbine',
+    pIn: 6e5,
+    tIn: 520,
+    pOut: 1.5e5,
+    massFlow: 5,
+    eta0: 0.84,
+    ratePtsPerDay: 0,
+  },
+  {
+    slug: 'ac-9',
+    kind: 'compressor',
+    pIn: 103_325,
+    tIn: 293.15,
+    pOut: 8e5,
+    massFlow: 3,
+    eta0: 0.8,
+    ratePtsPerDay: 0,
+  },
+];
+
+let db: TestDatabase;
+let seeded: SeededMachine[];
+
+beforeAll(async () => {
+  db = await createTestDatabase();
+  const site = await seedSite(db.pool);
+  seeded = [];
+  for (const [k, m] of MACHINES.entries()) {
+    const s = await seedMachine(db.pool, site, m);
+    await seedSamples(db.pool, dryAir(), m, s, { fromMs: T0 - 2 * H, toMs: END + H, seed: 40 + k });
+    seeded.push(s);
+  }
+  await db.pool.query('UPDATE samples SET quality = 192');
+});
+
+afterAll(async () => {
+  await db?.drop();
+});
+
+async function results(): Promise<ResultRow[][]> {
+  return Promise.all(seeded.map((s) => readResults(db.pool, s.machineId, T0, END)));
+}
+
+describe('backfill on compute worker threads', () => {
+  it('writes exactly the rows the main thread writes', async () => {
+    const inProcess = await backfill(db.pool, { from: T0, to: END, workers: 0 });
+    expect(inProcess.workers).toBe(0);
+    const expected = await results();
+    expect(expected.map((r) => r.length)).toEqual([20 * 60, 20 * 60]);
+    expect(expected.flat().filter((r) => r.valid && r.efficiency !== null).length).toBeGreaterThan(1000);
+
+    // Chunks of 5 hours: several tasks per machine, handed to two threads.
+    const onWorkers = await backfill(db.pool, { from: T0, to: END, workers: 2, chunkMs: 5 * H });
+    expect(onWorkers.workers).toBe(2);
+    expect(onWorkers.points).toBe(inProcess.points);
+    expect(await results()).toEqual(expected);
+  });
+});

@@ -1,0 +1,213 @@
+/**
+ * The binary COPY body of result rows (pure: no I/O), shared by the results writer and the
+ * compute workers, which encode their rows where they computed them.
+ */
+import type { ResultRow } from '../compute/pipeline.js';
+import { JobsError } from '../errors.js';
+
+/** Numeric result columns and their ResultRow keys, in table order. */
+export const NUM_COLUMNS = [
+  ['p_in', 'pIn'],
+  ['t_in', 'tIn'],
+  ['h_in', 'hIn'],
+  ['s_in', 'sIn'],
+  ['p_out', 'pOut'],
+  ['t_out', 'tOut'],
+  ['h_out', 'hOut'],
+  ['s_out', 'sOut'],
+  ['t_out_s', 'tOutS'],
+  ['h_out_s', 'hOutS'],
+  ['mass_flow', 'massFlow'],
+  ['efficiency', 'efficiency'],
+  ['u_efficiency', 'uEfficiency'],
+  ['polytropic_efficiency', 'polytropicEfficiency'],
+  ['u_polytropic_efficiency', 'uPolytropicEfficiency'],
+  ['specific_work', 'specificWork'],
+  ['u_specific_work', 'uSpecificWork'],
+  ['power', 'power'],
+  ['u_power', 'uPower'],
+  ['entropy_generation', 'entropyGeneration'],
+  ['u_entropy_generation', 'uEntropyGeneration'],
+  ['operating_point', 'operatingPoint'],
+] as const satisfies readonly (readonly [string, keyof ResultRow])[];
+
+/** The column list of the COPY, in the order the encoder writes the fields. */
+export const RESULT_COPY_COLUMNS = `machine_id, time, ${NUM_COLUMNS.map(([c]) => c).join(', ')}, steady, flags, valid, computed_at`;
+
+/** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
+const PG_EPOCH_MS = 946_684_800_000;
+/** Object id of the text type (pg_type), the element type of the flags array. */
+const TEXT_OID = 25;
+const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1');
+const FIELDS = 2 + NUM_COLUMNS.length + 4;
+
+/**
+ * Rows in PostgreSQL's binary COPY format (PostgreSQL documentation, COPY, "Binary Format"):
+ * per tuple an int16 field count, then per field an int32 length (-1 = NULL) and the value in the
+ * type's binary send form (int4; timestamptz as int8 microseconds since 2000-01-01; float8; bool
+ * as one byte; text[] as ndim, has-null, element type oid, then size and lower bound per
+ * dimension and length-prefixed UTF-8 elements), all big-endian. Written through a DataView
+ * (DataView setters are big-endian by default and several times cheaper than Buffer's
+ * writeXxxBE per field, measured); each distinct flag set is encoded once and copied after.
+ */
+class CopyEncoder {
+  private buf = Buffer.allocUnsafe(1 << 20);
+  private view = new DataView(this.buf.buffer, this.buf.byteOffset, this.buf.byteLength);
+  private at = 0;
+  /** A flags field (length word and array) per distinct '|'-joined flag set. */
+  private readonly flagFields = new Map<string, Buffer>();
+
+  private need(n: number): void {
+    if (this.at + n <= this.buf.length) return;
+    const next = Buffer.allocUnsafe(Math.max(this.buf.length * 2, this.at + n));
+    this.buf.copy(next, 0, 0, this.at);
+    this.buf = next;
+    this.view = new DataView(next.buffer, next.byteOffset, next.byteLength);
+  }
+
+  header(): void {
+    this.need(19);
+    COPY_SIGNATURE.copy(this.buf, this.at);
+    this.at += COPY_SIGNATURE.length;
+    this.view.setInt32(this.at, 0); // flags: no OIDs
+    this.view.setInt32(this.at + 4, 0); // header extension length
+    this.at += 8;
+  }
+
+  /** The text[] field of a flag set, length word included. */
+  private flagField(flags: readonly string[]): Buffer {
+    const key = flags.join('|');
+    let field = this.flagFields.get(key);
+    if (field !== undefined) return field;
+    const elements = flags.map((f) => Buffer.from(f, 'utf8'));
+    const ndim = elements.length === 0 ? 0 : 1;
+    let size = 12 + ndim * 8;
+    for (const e of elements) size += 4 + e.length;
+    field = Buffer.allocUnsafe(4 + size);
+    let o = field.writeInt32BE(size, 0);
+    o = field.writeInt32BE(ndim, o);
+    o = field.writeInt32BE(0, o); // no NULL elements
+    o = field.writeInt32BE(TEXT_OID, o);
+    if (ndim === 1) {
+      o = field.writeInt32BE(elements.length, o);
+      o = field.writeInt32BE(1, o); // lower bound
+      for (const e of elements) {
+        o = field.writeInt32BE(e.length, o);
+        o += e.copy(field, o);
+      }
+    }
+    this.flagFields.set(key, field);
+    return field;
+  }
+
+  row(r: ResultRow, computedAtUs: number): void {
+    const flags = this.flagField(r.flags);
+    this.need(2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + flags.length + 5 + 12);
+    const v = this.view;
+    let o = this.at;
+    v.setInt16(o, FIELDS);
+    v.setInt32(o + 2, 4);
+    v.setInt32(o + 6, r.machineId);
+    o = timestamp(v, o + 10, (r.time - PG_EPOCH_MS) * 1000);
+    // Field by field in NUM_COLUMNS order: named reads stay monomorphic (a keyed loop does not).
+    o = float8(v, o, r.pIn);
+    o = float8(v, o, r.tIn);
+    o = float8(v, o, r.hIn);
+    o = float8(v, o, r.sIn);
+    o = float8(v, o, r.pOut);
+    o = float8(v, o, r.tOut);
+    o = float8(v, o, r.hOut);
+    o = float8(v, o, r.sOut);
+    o = float8(v, o, r.tOutS);
+    o = float8(v, o, r.hOutS);
+    o = float8(v, o, r.massFlow);
+    o = float8(v, o, r.efficiency);
+    o = float8(v, o, r.uEfficiency);
+    o = float8(v, o, r.polytropicEfficiency);
+    o = float8(v, o, r.uPolytropicEfficiency);
+    o = float8(v, o, r.specificWork);
+    o = float8(v, o, r.uSpecificWork);
+    o = float8(v, o, r.power);
+    o = float8(v, o, r.uPower);
+    o = float8(v, o, r.entropyGeneration);
+    o = float8(v, o, r.uEntropyGeneration);
+    o = float8(v, o, r.operatingPoint);
+    v.setInt32(o, 1);
+    v.setUint8(o + 4, r.steady ? 1 : 0);
+    o += 5;
+    this.buf.set(flags, o);
+    o += flags.length;
+    v.setInt32(o, 1);
+    v.setUint8(o + 4, r.valid ? 1 : 0);
+    this.at = timestamp(v, o + 5, computedAtUs);
+  }
+
+  trailer(): void {
+    this.need(2);
+    this.view.setInt16(this.at, -1);
+    this.at += 2;
+  }
+
+  get size(): number {
+    return this.at;
+  }
+
+  /** The bytes written (a view of the encoder's buffer). */
+  take(): Buffer {
+    return this.buf.subarray(0, this.at);
+  }
+}
+
+/** A float8 field at o (NULL for null and non-finite values); returns the next offset. */
+function float8(v: DataView, o: number, x: number | null): number {
+  if (x === null || !Number.isFinite(x)) {
+    v.setInt32(o, -1);
+    return o + 4;
+  }
+  v.setInt32(o, 8);
+  v.setFloat64(o + 4, x);
+  return o + 12;
+}
+
+/** A timestamptz field at o: length 8, then int8 microseconds as two 32-bit halves (exact below 2^53). */
+function timestamp(v: DataView, o: number, us: number): number {
+  const x = Math.round(us);
+  const hi = Math.floor(x / 4_294_967_296);
+  v.setInt32(o, 8);
+  v.setInt32(o + 4, hi);
+  v.setUint32(o + 8, x - hi * 4_294_967_296);
+  return o + 12;
+}
+
+/**
+ * A whole COPY body (header, rows, trailer) for rows of one machine in [fromMs, toMs); throws
+ * JOBS_BAD_RANGE, before anything is written, for a row of another machine or time.
+ */
+export function encodeResultRows(
+  rows: readonly ResultRow[],
+  machineId: number,
+  fromMs: number,
+  toMs: number,
+  computedAtMs: number = Date.now(),
+): Buffer {
+  const enc = new CopyEncoder();
+  enc.header();
+  const computedAtUs = (computedAtMs - PG_EPOCH_MS) * 1000;
+  for (const r of rows) {
+    if (r.machineId !== machineId || !(r.time >= fromMs && r.time < toMs))
+      throw new JobsError(
+        'JOBS_BAD_RANGE',
+        'a result row lies outside the machine and range being replaced',
+        {
+          machineId,
+          fromMs,
+          toMs,
+          rowMachineId: r.machineId,
+          rowTime: r.time,
+        },
+      );
+    enc.row(r, computedAtUs);
+  }
+  enc.trailer();
+  return enc.take();
+}
