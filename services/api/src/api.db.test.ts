@@ -115,6 +115,29 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
     expect(st.band).toBe('unknown');
   });
 
+  it('fleet: open alerts counted apart for drift and instruments; a returned-to-normal one is not open', async () => {
+    const ids = [
+      await insertAlert(db.pool, plant.turbineId, 'active_unacknowledged', 'alarm', 'drift'),
+      await insertAlert(db.pool, plant.turbineId, 'shelved', 'warning', 'instrument'),
+    ];
+    // One open alert per machine, category and tag (migrations/0003): the second instrument alert is on a tag.
+    await db.pool.query('UPDATE alerts SET tag_id = $2 WHERE id = $1', [ids[1], plant.tagIds[0]]);
+    ids.push(
+      await insertAlert(db.pool, plant.turbineId, 'active_acknowledged', 'warning', 'instrument'),
+      await insertAlert(db.pool, plant.turbineId, 'normal', 'warning', 'drift'),
+    );
+    try {
+      const r = await app.inject({ method: 'GET', url: '/api/fleet', headers: auth('viewer') });
+      const st = r
+        .json<{ items: { id: number; openAlerts: number; openAlertsByCategory: unknown }[] }>()
+        .items.find((m) => m.id === plant.turbineId)!;
+      expect(st.openAlerts).toBe(3);
+      expect(st.openAlertsByCategory).toEqual({ drift: 1, instrument: 2 });
+    } finally {
+      await db.pool.query('DELETE FROM alerts WHERE id = ANY($1)', [ids]);
+    }
+  });
+
   it('trend: downsampled buckets with baseline and drift, ETag and 304', async () => {
     const url = `/api/machines/${plant.compressorId}/trend?from=${new Date(t0).toISOString()}&to=${new Date(t0 + 48 * HOUR).toISOString()}&buckets=4`;
     const r = await app.inject({ method: 'GET', url, headers: auth('viewer') });

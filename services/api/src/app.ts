@@ -7,6 +7,7 @@ import rateLimit from '@fastify/rate-limit';
 import fastifyStatic from '@fastify/static';
 import swagger from '@fastify/swagger';
 import swaggerUi from '@fastify/swagger-ui';
+import { CAUTION } from '@isentrope/monitor';
 import Fastify, {
   type FastifyBaseLogger,
   type FastifyInstance,
@@ -33,6 +34,7 @@ import { baselineRoutes } from './routes/baselines.js';
 import { chartRoutes } from './routes/chart.js';
 import { exportRoutes } from './routes/exports.js';
 import { healthRoutes } from './routes/health.js';
+import { linkRoutes } from './routes/links.js';
 import { machineRoutes } from './routes/machines.js';
 import { metricsRoutes } from './routes/metrics.js';
 import { plantRoutes } from './routes/plant.js';
@@ -176,8 +178,7 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
       info: {
         title: 'Isentrope API',
         version: deps.version,
-        description:
-          'Plant historian and condition monitoring for rotating machinery. Errors are application/problem+json with a stable code (see ERRORS.md).',
+        description: `Plant historian and condition monitoring for rotating machinery. Errors are application/problem+json with a stable code (see ERRORS.md).\n\n**Caution.** ${CAUTION}`,
       },
       components: {
         securitySchemes: {
@@ -211,6 +212,7 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
   await app.register(quarantineRoutes, { prefix: '/api', ctx });
   await app.register(exportRoutes, { prefix: '/api', ctx });
   for (const mount of deps.plugins ?? []) await app.register(async (scope) => mount(scope));
+  await app.register(linkRoutes);
 
   await app.register(fastifyStatic, {
     root: PUBLIC_DIR,

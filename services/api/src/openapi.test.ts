@@ -1,3 +1,4 @@
+import { CAUTION } from '@isentrope/monitor';
 import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { z } from 'zod';
@@ -98,6 +99,25 @@ describe('OpenAPI document', () => {
     const r = await app.inject({ method: 'GET', url: '/api/docs/' });
     expect(r.statusCode).toBe(200);
     expect(r.headers['content-type']).toMatch(/text\/html/);
+  });
+
+  it('puts the caution on the interactive page (the document description)', async () => {
+    const r = await app.inject({ method: 'GET', url: '/api/openapi.json' });
+    expect(r.json<{ info: { description: string } }>().info.description).toContain(CAUTION);
+  });
+
+  it('opens the machine page from the links alerts carry (/machines/<slug>?from&to)', async () => {
+    // The form services/jobs trendLink writes into evidence and notifications: ISO times, percent-encoded.
+    const r = await app.inject({
+      method: 'GET',
+      url: '/machines/ac-1?from=2026-12-01T02%3A13%3A00.000Z&to=2026-12-01T03%3A13%3A00.000Z',
+    });
+    expect(r.statusCode).toBe(302);
+    expect(r.headers.location).toBe(
+      '/machine.html?slug=ac-1&from=2026-12-01T02%3A13%3A00.000Z&to=2026-12-01T03%3A13%3A00.000Z',
+    );
+    const bare = await app.inject({ method: 'GET', url: '/machines/st%201' });
+    expect(bare.headers.location).toBe('/machine.html?slug=st+1');
   });
 });
 

@@ -90,3 +90,27 @@ export async function frame() {
     return undefined;
   }
 }
+
+/** A duration [ms] in the largest plain unit: "12 min", "5 h", "73 days". */
+export function age(ms) {
+  if (!Number.isFinite(ms)) return '–';
+  const min = Math.round(ms / 60_000);
+  if (min < 120) return `${min} min`;
+  const h = Math.round(ms / 3_600_000);
+  if (h < 48) return `${h} h`;
+  return `${Math.round(ms / 86_400_000)} days`;
+}
+
+/** ISO instants inside a text ("2026-12-01T02:42:00.000Z") written as the dashboard writes times. */
+export function timesInText(text) {
+  return text.replace(/\b(\d{4}-\d\d-\d\d)T(\d\d:\d\d)(?::\d\d(?:\.\d+)?)?Z\b/g, '$1 $2 UTC');
+}
+
+/** Pressure [Pa] as the trade writes it: bar above 1 bar, else mbar (and Pa below 10 mbar). */
+export function pressureText(pa) {
+  if (pa === null || pa === undefined || !Number.isFinite(pa)) return '–';
+  const a = Math.abs(pa);
+  if (a >= 1e5) return `${(pa / 1e5).toFixed(2)} bar`;
+  if (a >= 1e3) return `${(pa / 100).toFixed(1)} mbar`;
+  return `${pa.toFixed(0)} Pa`;
+}

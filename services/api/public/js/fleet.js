@@ -1,4 +1,5 @@
 import { api, el, frame, pct, power, signed, when } from './common.js';
+import { machineState, openAlertsText } from './state.js';
 
 /** Which efficiency is trended per machine kind (see services/jobs compute: pumps and fans with a power tag use it). */
 const EFFICIENCY_KIND = {
@@ -10,28 +11,38 @@ const EFFICIENCY_KIND = {
 
 const KIND = { turbine: 'steam turbine', compressor: 'compressor', pump: 'pump', fan: 'fan' };
 
-function card(m) {
+/** Card class per state: colour only where something is wrong. */
+const STATE_CLASS = {
+  alarm: 'state-alarm',
+  warning: 'state-warning',
+  'no-data': 'state-stale',
+  'out-of-service': 'state-stale',
+};
+
+function card(m, generatedAt) {
   const c = m.current;
-  const stateClass = m.band === 'warning' ? 'state-warning' : m.band === 'alarm' ? 'state-alarm' : '';
+  const state = machineState(m, generatedAt);
   const health = m.health;
   const share =
     health.validShare === null
       ? 'no results in the last day'
       : `${Math.round(100 * health.validShare)} % valid of ${health.results} results in the last day`;
-  const stale = m.outOfService
-    ? 'out of service'
-    : c === null
-      ? 'no valid result yet'
-      : `as of ${when(c.windowEnd)}`;
+  const alerts = openAlertsText(m);
   return el(
     'a',
     {
-      class: `card ${stateClass}`,
+      class: `card ${STATE_CLASS[state.key] ?? ''}`,
       href: `/machine.html?id=${m.id}`,
       'data-machine': m.id,
       'data-band': m.band,
+      'data-state': state.key,
     },
-    el('div', { class: 'name', text: m.name }),
+    el(
+      'div',
+      { class: 'card-head' },
+      el('div', { class: 'name', text: m.name }),
+      el('span', { class: `tag ${state.key}`, 'data-field': 'state', text: state.label }),
+    ),
     el('div', { class: 'kind', text: `${KIND[m.kind] ?? m.kind} · ${m.site}` }),
     el(
       'div',
@@ -45,15 +56,11 @@ function card(m) {
       m.hasBaseline
         ? `${signed(c?.driftPts)} points against baseline ${pct(c?.baseline)} %`
         : 'no baseline yet',
-      m.band === 'warning' || m.band === 'alarm'
-        ? el('span', { class: `tag ${m.band}`, text: m.band, style: 'margin-left:.4rem' })
-        : null,
     ),
-    el('div', { class: 'sub', text: `power ${power(c?.power)} · ${stale}` }),
+    state.detail ? el('div', { class: 'sub stale-note', 'data-field': 'stale', text: state.detail }) : null,
+    el('div', { class: 'sub', text: `power ${power(c?.power)}${c ? ` · as of ${when(c.windowEnd)}` : ''}` }),
     el('div', { class: 'sub', 'data-field': 'health', text: share }),
-    m.openAlerts > 0
-      ? el('div', { class: 'sub', text: `${m.openAlerts} open alert${m.openAlerts > 1 ? 's' : ''}` })
-      : null,
+    alerts ? el('div', { class: 'sub alerts-note', 'data-field': 'alerts', text: alerts }) : null,
   );
 }
 
@@ -61,7 +68,7 @@ async function load() {
   const grid = document.getElementById('fleet');
   try {
     const fleet = await api('/api/fleet');
-    grid.replaceChildren(...fleet.items.map(card));
+    grid.replaceChildren(...fleet.items.map((m) => card(m, fleet.generatedAt)));
     if (fleet.items.length === 0)
       grid.replaceChildren(el('p', { class: 'sub', text: 'No machines configured yet.' }));
     grid.dataset.loaded = 'true';

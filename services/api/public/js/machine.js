@@ -1,48 +1,136 @@
 import uPlot from '/vendor/uplot/uPlot.esm.js';
-import { api, el, frame, num, pct, power, signed, when } from './common.js';
+import { age, api, el, frame, num, pct, power, pressureText, signed, when } from './common.js';
+import { evidenceOf, handledText, messageOf, STATE_WORDS } from './evidence.js';
+import { hsChart } from './hs-chart.js';
+import { machineState, openAlertsText } from './state.js';
 
-const id = Number(new URLSearchParams(location.search).get('id'));
 const DAY = 86_400_000;
-const SVG = 'http://www.w3.org/2000/svg';
+const params = new URLSearchParams(location.search);
+const CAUTION = document.getElementById('caution').textContent;
 
 let effPlot;
 let workPlot;
 let loading = 0;
+/** Power axis unit, chosen once from the first data drawn: kW below 1 MW. */
+let powerUnit;
 
-function kpi(label, value, field) {
+/** The machine id: ?id=, or ?slug= (and ?site= when slugs repeat across sites), as alert links give it. */
+async function resolveId() {
+  if (params.get('id') !== null) return Number(params.get('id'));
+  const slug = params.get('slug');
+  if (slug === null) throw new Error('No machine given: open one from the fleet page.');
+  const site = params.get('site');
+  const found = (await api('/api/machines')).items.filter(
+    (m) => m.slug === slug && (site === null || m.site === site),
+  );
+  if (found.length === 1) return found[0].id;
+  throw new Error(
+    found.length === 0
+      ? `There is no machine "${slug}"${site === null ? '' : ` on site ${site}`}.`
+      : `"${slug}" names machines on the sites ${found.map((m) => m.site).join(', ')}; open it from the fleet page.`,
+  );
+}
+
+function kpi(label, value, field, note) {
   return el(
     'div',
     { 'data-field': field },
     el('div', { class: 'sub', text: label }),
     el('div', { class: 'figure', text: value }),
+    note ? el('div', { class: 'sub', text: note }) : null,
   );
 }
 
-/** Set by header(): which efficiency the trend shows depends on the machine kind. */
-let machineKind = 'turbine';
+const STATE_CLASS = { alarm: 'state-alarm', warning: 'state-warning', 'no-data': 'state-stale' };
 
-async function header() {
+async function header(id) {
   const [machine, fleet] = await Promise.all([api(`/api/machines/${id}`), api('/api/fleet')]);
-  machineKind = machine.kind;
   const f = fleet.items.find((m) => m.id === id);
   document.getElementById('title').textContent = machine.name;
   document.title = `${machine.name} · Isentrope`;
   const c = f?.current ?? null;
+  const state =
+    f === undefined ? { key: 'unknown', label: '–', detail: '' } : machineState(f, fleet.generatedAt);
   const k = document.getElementById('kpis');
+  const u = c?.uEfficiency;
   k.replaceChildren(
-    kpi('Efficiency (last hour) %', pct(c?.efficiency), 'efficiency'),
+    kpi(
+      'Efficiency (last valid hour) %',
+      pct(c?.efficiency),
+      'efficiency',
+      typeof u === 'number' ? `one result ± ${pct(2 * u)} (k = 2)` : null,
+    ),
     kpi('Baseline %', pct(c?.baseline), 'baseline'),
     kpi('Drift, points', signed(c?.driftPts), 'drift'),
     kpi('Power', power(c?.power), 'power'),
+    kpi('State', state.label, 'state'),
     el(
       'div',
       {},
-      el('div', { class: 'sub', text: 'Band' }),
-      el('div', { class: `figure`, text: f?.band ?? '–' }),
+      el('div', { class: 'sub', text: c ? `as of ${when(c.windowEnd)}` : 'no valid result yet' }),
     ),
-    el('div', {}, el('div', { class: 'sub', text: `as of ${when(c?.windowEnd)}` })),
   );
-  if (f?.band === 'warning' || f?.band === 'alarm') k.classList.add(`state-${f.band}`);
+  k.dataset.state = state.key;
+  k.className = `panel kpis ${STATE_CLASS[state.key] ?? ''}`;
+  if (state.detail) k.append(el('p', { class: 'sub stale-note', 'data-field': 'stale', text: state.detail }));
+  if (f !== undefined) {
+    const text = openAlertsText(f);
+    document.getElementById('alerts-count').textContent = text ? `(${text})` : '';
+  }
+  return { machine, fleetItem: f, generatedAt: fleet.generatedAt };
+}
+
+async function openAlerts(id) {
+  const box = document.getElementById('machine-alerts');
+  const page = await api(`/api/alerts?status=open&machine=${id}&limit=50`);
+  box.replaceChildren(
+    ...page.items.map((a) =>
+      el(
+        'div',
+        { class: 'alert-item', 'data-alert': a.id, 'data-state': a.state },
+        el('span', {
+          class: `tag ${a.category === 'instrument' ? 'fault' : a.level}`,
+          text: a.category === 'instrument' ? 'instrument' : 'drift',
+        }),
+        ' ',
+        el('span', { class: `tag ${a.level}`, text: a.level }),
+        ' ',
+        el('span', { class: 'sub', text: `raised ${when(a.raisedAt)} · ${STATE_WORDS[a.state] ?? a.state}` }),
+        handledText(a) ? el('span', { class: 'sub', text: ` · ${handledText(a)}` }) : null,
+        el('div', {}, messageOf(a, CAUTION)),
+        el('details', { 'data-field': 'evidence' }, el('summary', { text: 'Evidence' }), evidenceOf(a)),
+      ),
+    ),
+  );
+  if (page.items.length === 0) box.replaceChildren(el('p', { class: 'sub', text: 'No open alerts.' }));
+  box.dataset.loaded = 'true';
+}
+
+// ---- trend charts (uPlot), times in UTC on a 24-hour clock like the rest of the dashboard ----
+
+/**
+ * Axis labels: hours and minutes with the date (MM-DD) where it changes, or dates alone for
+ * steps of a day or more; the year only on the first label and where it changes.
+ */
+function timeLabels(_u, splits, _axis, _space, incr) {
+  let lastDay = '';
+  let lastYear = '';
+  return splits.map((s) => {
+    const iso = new Date(s * 1000).toISOString();
+    const year = iso.slice(0, 4);
+    const day = year !== lastYear ? iso.slice(0, 10) : iso.slice(5, 10);
+    lastYear = year;
+    if (incr >= 28 * 86_400) return iso.slice(0, 7);
+    if (incr >= 86_400) return day;
+    const hm = iso.slice(11, 16);
+    const label = iso.slice(0, 10) !== lastDay ? `${hm}\n${day}` : hm;
+    lastDay = iso.slice(0, 10);
+    return label;
+  });
+}
+
+function legendTime(_u, v) {
+  return v === null || v === undefined ? '–' : when(new Date(v * 1000).toISOString());
 }
 
 function opts(title, series, width, extra = {}) {
@@ -50,18 +138,24 @@ function opts(title, series, width, extra = {}) {
     title,
     width,
     height: 260,
-    series: [{}, ...series],
+    tzDate: (ts) => uPlot.tzDate(new Date(ts * 1000), 'Etc/UTC'),
+    series: [{ label: 'time (UTC)', value: legendTime }, ...series],
     cursor: { drag: { x: true, y: false } },
     scales: { x: { time: true } },
     legend: { live: true },
     ...extra,
+    axes: [{ values: timeLabels, label: 'time (UTC)', labelSize: 20 }, ...(extra.axes ?? [{}])],
   };
 }
 
+function chartWidth() {
+  return Math.max(300, document.getElementById('eff-chart').clientWidth - 4);
+}
+
 /** Fetch the trend for [from, to) at about one bucket per pixel and draw both charts. */
-async function trend(fromMs, toMs) {
+async function trend(id, kind, fromMs, toMs) {
   const ticket = ++loading;
-  const width = Math.max(320, document.getElementById('eff-chart').clientWidth - 10);
+  const width = chartWidth();
   const t = await api(
     `/api/machines/${id}/trend?from=${new Date(fromMs).toISOString()}&to=${new Date(toMs).toISOString()}&buckets=${Math.min(2000, width)}`,
   );
@@ -84,50 +178,69 @@ async function trend(fromMs, toMs) {
   const alarm = b.map((r) =>
     r.baseline === null || t.bands === null ? null : 100 * r.baseline - t.bands.alarm,
   );
+  if (powerUnit === undefined) {
+    const peak = Math.max(0, ...b.map((r) => Math.abs(r.powerMean ?? 0)));
+    powerUnit = peak >= 1e6 ? { div: 1e6, name: 'MW' } : { div: 1e3, name: 'kW' };
+  }
   const effData = [x, eff, base, hi, lo, warn, alarm];
   const workData = [
     x,
     b.map((r) => (r.specificWorkMean === null ? null : r.specificWorkMean / 1000)),
-    b.map((r) => (r.powerMean === null ? null : r.powerMean / 1e6)),
+    b.map((r) => (r.powerMean === null ? null : r.powerMean / powerUnit.div)),
   ];
-  document.getElementById('trend-note').textContent =
-    `${b.length} points (buckets of ${num(t.bucketMs / 60000, 1)} min, mean of the valid results in each); band lines at baseline minus ${t.bands ? `${t.bands.warning} and ${t.bands.alarm}` : '–'} points; shaded: ±2 u.`;
-  document.getElementById('eff-chart').dataset.points = String(b.length);
-  document.getElementById('eff-chart').dataset.from = t.from;
-  document.getElementById('eff-chart').dataset.to = t.to;
+  const results = b.reduce((s, r) => s + r.n, 0);
+  const valid = b.reduce((s, r) => s + r.nValid, 0);
+  const drawn = eff.filter((v) => v !== null).length;
+  const note = document.getElementById('trend-note');
+  note.textContent =
+    `${results} results in this range, ${valid} valid; ${drawn} points drawn (buckets of ${t.bucketMs < 60_000 ? `${num(t.bucketMs / 1000, 0)} s` : `${num(t.bucketMs / 60000, 1)} min`}, mean of the valid results in each); ` +
+    `band lines at baseline minus ${t.bands ? `${t.bands.warning} and ${t.bands.alarm}` : '–'} points; shaded: ±2 u.`;
+  const empty = document.getElementById('trend-empty');
+  empty.textContent =
+    valid > 0
+      ? ''
+      : results > 0
+        ? `No valid result in this range: all ${results} results are flagged (see the alerts above). Choose a longer range to see the last valid ones.`
+        : 'No results in this range. Choose a longer range.';
+  const chart = document.getElementById('eff-chart');
+  chart.dataset.points = String(b.length);
+  chart.dataset.validPoints = String(drawn);
+  chart.dataset.from = t.from;
+  chart.dataset.to = t.to;
   if (effPlot === undefined) {
+    const zoomHook = { setSelect: [(u) => zoom(u, id, kind)] };
     effPlot = new uPlot(
       opts(
-        machineKind === 'pump'
+        kind === 'pump'
           ? 'Hydraulic efficiency [%]'
-          : machineKind === 'fan'
+          : kind === 'fan'
             ? 'Fan efficiency [%]'
             : 'Isentropic efficiency [%]',
         [
-          { label: 'efficiency', stroke: '#1f2326', width: 1.5 },
-          { label: 'baseline', stroke: '#777', dash: [6, 4] },
+          { label: 'efficiency %', stroke: '#1f2326', width: 1.5 },
+          { label: 'baseline %', stroke: '#777', dash: [6, 4] },
           { label: '+2u', stroke: 'rgba(0,0,0,0)', points: { show: false } },
           { label: '−2u', stroke: 'rgba(0,0,0,0)', points: { show: false } },
           { label: 'warning', stroke: '#9a6700', dash: [2, 3] },
           { label: 'alarm', stroke: '#b3261e', dash: [2, 3] },
         ],
         width,
-        { bands: [{ series: [3, 4], fill: 'rgba(60,60,60,0.12)' }], hooks: { setSelect: [zoom] } },
+        { bands: [{ series: [3, 4], fill: 'rgba(60,60,60,0.12)' }], hooks: zoomHook },
       ),
       effData,
-      document.getElementById('eff-chart'),
+      chart,
     );
     workPlot = new uPlot(
       opts(
-        'Specific work [kJ/kg] and power [MW]',
+        `Specific work [kJ/kg] and power [${powerUnit.name}]`,
         [
           { label: 'specific work kJ/kg', stroke: '#1f2326', scale: 'w' },
-          { label: 'power MW', stroke: '#777', scale: 'p' },
+          { label: `power ${powerUnit.name}`, stroke: '#777', scale: 'p' },
         ],
         width,
         {
-          axes: [{}, { scale: 'w' }, { scale: 'p', side: 1, grid: { show: false } }],
-          hooks: { setSelect: [zoom] },
+          axes: [{ scale: 'w' }, { scale: 'p', side: 1, grid: { show: false } }],
+          hooks: zoomHook,
         },
       ),
       workData,
@@ -137,16 +250,16 @@ async function trend(fromMs, toMs) {
     effPlot.setData(effData);
     workPlot.setData(workData);
   }
-  document.getElementById('eff-chart').dataset.loaded = 'true';
+  chart.dataset.loaded = 'true';
 }
 
 /** A drag selection asks the server for that range again, downsampled to the chart width. */
-function zoom(u) {
+function zoom(u, id, kind) {
   if (u.select.width < 5) return;
   const from = u.posToVal(u.select.left, 'x') * 1000;
   const to = u.posToVal(u.select.left + u.select.width, 'x') * 1000;
   u.setSelect({ left: 0, top: 0, width: 0, height: 0 }, false);
-  trend(from, to);
+  trend(id, kind, from, to);
 }
 
 function rangeFromSelect() {
@@ -155,120 +268,20 @@ function rangeFromSelect() {
   return [to - days * DAY, to];
 }
 
-// ---- h-s chart as SVG, with each state point's s and h in data attributes ----
-
-function svg(tag, attrs) {
-  const e = document.createElementNS(SVG, tag);
-  for (const [k, v] of Object.entries(attrs)) e.setAttribute(k, String(v));
-  return e;
-}
-
-function hsChart(c) {
-  const W = 640;
-  const H = 420;
-  const pad = { l: 64, r: 16, t: 16, b: 44 };
-  const pts = [
-    ...c.inletIsobar.points,
-    ...c.outletIsobar.points,
-    c.inlet,
-    c.outletIsentropic,
-    ...(c.outlet ? [c.outlet] : []),
-  ];
-  const sMin = Math.min(...pts.map((p) => p.s));
-  const sMax = Math.max(...pts.map((p) => p.s));
-  let hMin = Math.min(c.outletIsentropic.h, ...(c.outlet ? [c.outlet.h] : []), c.inlet.h);
-  let hMax = Math.max(c.inlet.h, ...(c.outlet ? [c.outlet.h] : []));
-  const dh = hMax - hMin || 1;
-  hMin -= 0.25 * dh;
-  hMax += 0.25 * dh;
-  const X = (s) => pad.l + ((s - sMin) / (sMax - sMin)) * (W - pad.l - pad.r);
-  const Y = (h) => pad.t + ((hMax - h) / (hMax - hMin)) * (H - pad.t - pad.b);
-  const root = svg('svg', {
-    width: W,
-    height: H,
-    viewBox: `0 0 ${W} ${H}`,
-    role: 'img',
-    'aria-label': 'h-s chart',
-    'data-smin': sMin,
-    'data-smax': sMax,
-    'data-hmin': hMin,
-    'data-hmax': hMax,
-  });
-  const clip = svg('clipPath', { id: 'plot-area' });
-  clip.append(svg('rect', { x: pad.l, y: pad.t, width: W - pad.l - pad.r, height: H - pad.t - pad.b }));
-  root.append(clip);
-  const g = svg('g', { 'clip-path': 'url(#plot-area)' });
-  const line = (points, cls, extra = {}) => {
-    const d = points
-      .map((p, i) => `${i === 0 ? 'M' : 'L'}${X(p.s).toFixed(1)},${Y(p.h).toFixed(1)}`)
-      .join('');
-    g.append(svg('path', { d, class: cls, ...extra }));
-  };
-  if (c.dome) line([...c.dome.liquid, ...[...c.dome.vapour].reverse()], 'dome', { 'data-role': 'dome' });
-  line(c.inletIsobar.points, 'isobar', { 'data-role': 'inlet-isobar', 'data-p': c.inletIsobar.p });
-  line(c.outletIsobar.points, 'isobar', { 'data-role': 'outlet-isobar', 'data-p': c.outletIsobar.p });
-  line(c.isentropicPath, 'ideal', { 'data-role': 'isentropic-path' });
-  if (c.actualPath.length > 0) line(c.actualPath, 'actual', { 'data-role': 'actual-path' });
-  root.append(g);
-  const point = (p, cls, role, label) => {
-    const cx = X(p.s);
-    const cy = Y(p.h);
-    root.append(
-      svg('circle', {
-        cx: cx.toFixed(2),
-        cy: cy.toFixed(2),
-        r: 5,
-        class: `pt ${cls}`,
-        'data-role': role,
-        'data-s': p.s,
-        'data-h': p.h,
-      }),
-    );
-    const t = svg('text', { x: cx + 8, y: cy - 6 });
-    t.textContent = label;
-    root.append(t);
-  };
-  point(c.inlet, 'inlet', 'inlet', 'inlet');
-  point(c.outletIsentropic, 'ideal-out', 'outlet-isentropic', 'ideal exit (s = s_in)');
-  if (c.outlet) point(c.outlet, 'outlet', 'outlet', 'real exit');
-  const label = (x, y, text, anchor = 'middle', rotate = false) => {
-    const t = svg('text', {
-      x,
-      y,
-      'text-anchor': anchor,
-      ...(rotate ? { transform: `rotate(-90 ${x} ${y})` } : {}),
-    });
-    t.textContent = text;
-    root.append(t);
-  };
-  root.append(
-    svg('rect', {
-      x: pad.l,
-      y: pad.t,
-      width: W - pad.l - pad.r,
-      height: H - pad.t - pad.b,
-      fill: 'none',
-      stroke: '#bbb',
-    }),
-  );
-  label((pad.l + W - pad.r) / 2, H - 8, 'specific entropy s [kJ/(kg K)]');
-  label(16, (pad.t + H - pad.b) / 2, 'specific enthalpy h [kJ/kg]', 'middle', true);
-  label(pad.l, H - pad.b + 16, (sMin / 1000).toFixed(3), 'start');
-  label(W - pad.r, H - pad.b + 16, (sMax / 1000).toFixed(3), 'end');
-  label(pad.l - 6, pad.t + 10, (hMax / 1000).toFixed(0), 'end');
-  label(pad.l - 6, H - pad.b, (hMin / 1000).toFixed(0), 'end');
-  return root;
-}
-
-async function hs() {
+async function hs(id, kind) {
   const box = document.getElementById('hs-chart');
   const note = document.getElementById('hs-note');
   try {
     const c = await api(`/api/machines/${id}/hs-chart`);
     box.replaceChildren(hsChart(c));
     const sgen = c.entropyGeneration;
+    const ageMs = Date.now() - Date.parse(c.time);
+    const dp = c.outletIsobar.p - c.inletIsobar.p;
+    const rise =
+      kind === 'turbine' ? `pressure drop ${pressureText(-dp)}` : `pressure rise ${pressureText(dp)}`;
     note.textContent =
-      `${c.fluid}, result of ${when(c.time)}: inlet ${num(c.inletIsobar.p / 1e5, 2)} bar(a), outlet ${num(c.outletIsobar.p / 1e5, 2)} bar(a); ` +
+      `${c.fluid}, result of ${when(c.time)}${ageMs > DAY ? ` (${age(ageMs)} ago: the newest with a full state)` : ''}: ` +
+      `inlet ${num(c.inletIsobar.p / 1e5, 3)} bar(a), outlet ${num(c.outletIsobar.p / 1e5, 3)} bar(a), ${rise}; ` +
       `efficiency ${pct(c.efficiency)} %; entropy generation s_out − s_in = ${num(sgen, 1)} J/(kg K)` +
       (c.uEntropyGeneration !== null ? ` (u = ${num(c.uEntropyGeneration, 1)})` : '') +
       '. Dashed vertical: ideal expansion or compression at the inlet entropy.';
@@ -279,16 +292,43 @@ async function hs() {
   }
 }
 
-document.getElementById('range').addEventListener('change', () => trend(...rangeFromSelect()));
-document.getElementById('eff-chart').addEventListener('dblclick', () => trend(...rangeFromSelect()));
-frame();
-header().catch((e) => (document.getElementById('kpis').textContent = e.message));
-const start = new URLSearchParams(location.search);
-// ?from=...&to=... opens a fixed range (used by links and the browser tests).
-const fixed = start.get('from') !== null && start.get('to') !== null;
-trend(...(fixed ? [Date.parse(start.get('from')), Date.parse(start.get('to'))] : rangeFromSelect())).catch(
-  (e) => {
-    document.getElementById('trend-note').textContent = e.message;
-  },
-);
-hs();
+async function main() {
+  frame();
+  let id;
+  try {
+    id = await resolveId();
+  } catch (e) {
+    document.getElementById('kpis').textContent = e.message;
+    return;
+  }
+  let kind = 'turbine';
+  try {
+    kind = (await header(id)).machine.kind;
+  } catch (e) {
+    document.getElementById('kpis').textContent = e.message;
+  }
+  openAlerts(id).catch((e) => {
+    document.getElementById('machine-alerts').textContent = e.message;
+  });
+  const show = (range) =>
+    trend(id, kind, ...range).catch((e) => {
+      document.getElementById('trend-note').textContent = e.message;
+    });
+  document.getElementById('range').addEventListener('change', () => show(rangeFromSelect()));
+  document.getElementById('eff-chart').addEventListener('dblclick', () => show(rangeFromSelect()));
+  let resizeTimer;
+  window.addEventListener('resize', () => {
+    clearTimeout(resizeTimer);
+    resizeTimer = setTimeout(() => {
+      const width = chartWidth();
+      effPlot?.setSize({ width, height: 260 });
+      workPlot?.setSize({ width, height: 260 });
+    }, 200);
+  });
+  // ?from=...&to=... opens a fixed range (alert evidence links and the browser tests).
+  const fixed = params.get('from') !== null && params.get('to') !== null;
+  show(fixed ? [Date.parse(params.get('from')), Date.parse(params.get('to'))] : rangeFromSelect());
+  hs(id, kind);
+}
+
+main();

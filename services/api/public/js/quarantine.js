@@ -2,6 +2,12 @@ import { api, el, frame, when } from './common.js';
 
 let next = '/api/quarantine?limit=100';
 
+/** The file's own name, the whole path on hover. */
+function fileCell(path) {
+  if (path === null || path === undefined) return el('td', { 'data-label': 'File', text: '–' });
+  return el('td', { 'data-label': 'File', title: path, text: path.split('/').pop() });
+}
+
 async function more() {
   if (next === null) return;
   const page = await api(next);
@@ -11,13 +17,25 @@ async function more() {
       el(
         'tr',
         { 'data-quarantine': q.id },
-        el('td', { text: when(q.createdAt) }),
-        el('td', { text: q.source }),
-        el('td', { text: q.file ?? '–' }),
-        el('td', { text: q.line ?? '–' }),
-        el('td', { text: q.column ?? '–' }),
-        el('td', { text: q.reason }),
-        el('td', {}, el('code', { text: (q.raw ?? '').slice(0, 120) })),
+        el('td', { 'data-label': 'Received', text: when(q.createdAt) }),
+        el('td', { 'data-label': 'Source', text: q.source }),
+        fileCell(q.file),
+        el('td', { 'data-label': 'Line', text: q.line ?? '–' }),
+        el('td', { 'data-label': 'Column', text: q.column ?? '–' }),
+        el('td', { 'data-label': 'Reason', text: q.reason }),
+        el('td', { 'data-label': 'Raw' }, el('code', { text: (q.raw ?? '').slice(0, 120) })),
+      ),
+    );
+  if (body.children.length === 0)
+    body.append(
+      el(
+        'tr',
+        {},
+        el('td', {
+          colspan: 7,
+          class: 'sub',
+          text: 'Nothing in quarantine: every row received so far was stored.',
+        }),
       ),
     );
   next = page.next;

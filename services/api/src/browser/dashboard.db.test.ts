@@ -1,7 +1,7 @@
 import { mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { type Browser, chromium, type Page } from 'playwright-core';
+import { type Browser, type BrowserContext, chromium, type Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { CAUTION } from '../../../../packages/monitor/src/caution.js';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
@@ -12,6 +12,7 @@ import {
   insertAlert,
   insertComputedResult,
   insertResults,
+  inventedCompressorResult,
   inventedTurbineResult,
   seedPlant,
   setBands,
@@ -28,8 +29,11 @@ describe('dashboard in Chromium', () => {
   let page: Page;
   let base: string;
   let configDir: string;
+  let context: BrowserContext;
   let turbineId: number;
+  let compressorId: number;
   let alertId: number;
+  let instrumentAlertId: number;
   const turbine = inventedTurbineResult();
   const pageErrors: string[] = [];
 
@@ -56,7 +60,65 @@ describe('dashboard in Chromium', () => {
       })),
     );
     await insertComputedResult(db.pool, turbineId, start + 167 * HOUR, turbine, 0.9);
+    // The compressor's last valid result is three days old; every result since is flagged
+    // (a gauge/absolute mix-up, invented demo data), and an instrument alert is open on it.
+    compressorId = plant.compressorId;
+    await setBands(db.pool, compressorId, 2, 4);
+    await insertComputedResult(db.pool, compressorId, now - 72 * HOUR, inventedCompressorResult(), 0.8);
+    await insertResults(
+      db.pool,
+      compressorId,
+      Array.from({ length: 48 }, (_, i) => ({ t: now - (47 - i) * HOUR, efficiency: null, valid: false })),
+    );
+    await db.pool.query(
+      `UPDATE results SET flags = ARRAY['fault:gauge-absolute:inletPressure'] WHERE machine_id = $1 AND NOT valid`,
+      [compressorId],
+    );
+    // Inserted first, so the API (newest id first) lists it after the turbine's alert.
+    instrumentAlertId = await insertAlert(
+      db.pool,
+      compressorId,
+      'active_unacknowledged',
+      'warning',
+      'instrument',
+    );
+    await db.pool.query(`UPDATE alerts SET evidence = $2 WHERE id = $1`, [
+      instrumentAlertId,
+      JSON.stringify({
+        faults: ['gauge-absolute'],
+        role: 'inletPressure',
+        tagId: null,
+        window: { from: new Date(now - 2 * HOUR).toISOString(), to: new Date(now - HOUR).toISOString() },
+        onDelayS: 1800,
+        offDelayS: 1800,
+      }),
+    ]);
     alertId = await insertAlert(db.pool, turbineId, 'active_unacknowledged');
+    // Evidence as the alert job writes it (services/jobs alerts job), figures invented.
+    await db.pool.query(`UPDATE alerts SET evidence = $2, message = $3 WHERE id = $1`, [
+      alertId,
+      JSON.stringify({
+        driftPts: -2.1234,
+        uDriftPts: 0.2,
+        k: 2,
+        expandedUDriftPts: 0.4,
+        coverage: 0.95,
+        points: 57,
+        operatingPoint: 0.9,
+        baselineOperatingPoint: 'load',
+        window: { from: new Date(now - 2 * HOUR).toISOString(), to: new Date(now - HOUR).toISOString() },
+        band: {
+          warningPts: -2,
+          alarmPts: -4,
+          deadbandPts: 0.5,
+          onDelayS: 1800,
+          offDelayS: 1800,
+          minCoverage: 0.5,
+        },
+        reason: `value -2.1234567 (u 0.2) entered the band; on-delay of 1800000 ms held since ${now - 2 * HOUR}`,
+      }),
+      `Steam turbine ST1 (invented): efficiency drift -2.12 ± 0.40 points (k = 2) over the hour to ${new Date(now - HOUR).toISOString()}, beyond the warning level of -2 points. ${CAUTION}`,
+    ]);
     await db.pool.query(
       `INSERT INTO quarantine (source, line, column_name, reason, raw) VALUES ('csv:north', 17, 'ST1.PI-100', 'not a number: "n/a"', '2026-03-01T00:00:00Z,n/a')`,
     );
@@ -76,7 +138,7 @@ describe('dashboard in Chromium', () => {
         '--no-first-run',
       ],
     });
-    const context = await browser.newContext({
+    context = await browser.newContext({
       acceptDownloads: true,
       viewport: { width: 1280, height: 900 },
     });
@@ -108,6 +170,15 @@ describe('dashboard in Chromium', () => {
       (100 * turbine.isentropicEfficiency!).toFixed(1),
     );
     expect(await page.locator('#caution').textContent()).toBe(CAUTION);
+    expect(await card.locator('[data-field="alerts"]').textContent()).toBe('1 drift alert');
+    // A machine whose figures are days old says so instead of showing a band.
+    const stale = page.locator(`[data-machine="${compressorId}"]`);
+    expect(await stale.getAttribute('data-state')).toBe('no-data');
+    expect(await stale.locator('[data-field="state"]').textContent()).toBe('no valid data for 3 days');
+    expect(await stale.locator('[data-field="stale"]').textContent()).toContain(
+      'gauge-absolute:inletPressure',
+    );
+    expect(await stale.locator('[data-field="alerts"]').textContent()).toBe('1 instrument alert');
     await page.screenshot({ path: `${ARTIFACTS}fleet.png`, fullPage: true });
   });
 
@@ -141,6 +212,14 @@ describe('dashboard in Chromium', () => {
     expect(real.cy).toBeLessThan(ideal.cy);
     expect(await page.locator('#hs-chart path[data-role="dome"]').count()).toBe(1);
     expect(await page.locator('#hs-note').textContent()).toContain('entropy generation');
+    // The open alert is on the machine page with its evidence and the caution.
+    await page.waitForSelector('#machine-alerts[data-loaded="true"]');
+    const item = page.locator(`#machine-alerts [data-alert="${alertId}"]`);
+    expect(await item.locator('[data-field="evidence"]').textContent()).toContain(
+      '−2.12 ± 0.40 points of efficiency (expanded uncertainty, k = 2',
+    );
+    expect(await item.locator('[data-field="caution"]').textContent()).toBe(CAUTION);
+    expect(await page.locator('#trend-empty').textContent()).toBe('');
     await page.screenshot({ path: `${ARTIFACTS}machine.png`, fullPage: true });
   });
 
@@ -168,9 +247,46 @@ describe('dashboard in Chromium', () => {
     expect((to - from) / HOUR).toBeLessThan(48);
   });
 
-  it('acknowledges an alert from the alerts page', async () => {
+  it('a machine without valid results in range says so, and names its state', async () => {
+    // The last day: only flagged results (the valid one is three days old).
+    const from = new Date(Date.now() - 24 * HOUR).toISOString();
+    await page.goto(`${base}/machine.html?id=${compressorId}&from=${from}&to=${new Date().toISOString()}`);
+    await page.waitForSelector('#eff-chart[data-loaded="true"]');
+    expect(await page.getAttribute('#kpis', 'data-state')).toBe('no-data');
+    expect(await page.locator('#trend-empty').textContent()).toMatch(
+      /^No valid result in this range: all \d+ results are flagged/,
+    );
+    expect(await page.getAttribute('#eff-chart', 'data-valid-points')).toBe('0');
+    // The h-s chart draws the newest result with state points and says how old it is.
+    await page.waitForSelector('#hs-chart[data-loaded="true"]');
+    expect(await page.locator('#hs-note').textContent()).toContain(
+      '(3 days ago: the newest with a full state)',
+    );
+  });
+
+  it('the trend link of an alert (/machines/<slug>?from&to) opens the machine page on that range', async () => {
+    const from = new Date(Date.now() - 30 * HOUR).toISOString();
+    const to = new Date(Date.now() - 6 * HOUR).toISOString();
+    await page.goto(`${base}/machines/st1?from=${encodeURIComponent(from)}&to=${encodeURIComponent(to)}`);
+    await page.waitForURL(/machine\.html\?slug=st1/);
+    await page.waitForSelector('#eff-chart[data-loaded="true"]');
+    expect(await page.getAttribute('#eff-chart', 'data-from')).toBe(from);
+    expect(await page.getAttribute('#eff-chart', 'data-to')).toBe(to);
+    expect(await page.locator('#title').textContent()).toBe('Steam turbine ST1 (invented)');
+  });
+
+  it('acknowledges an alert from the alerts page, then lists what still waits first', async () => {
     await page.goto(`${base}/alerts.html`);
     await page.waitForSelector('#alerts[data-loaded="true"]');
+    for (const id of [alertId, instrumentAlertId])
+      expect(await page.locator(`tr[data-alert="${id}"] [data-field="caution"]`).textContent()).toBe(CAUTION);
+    expect(
+      await page.locator(`tr[data-alert="${instrumentAlertId}"] [data-field="evidence"]`).textContent(),
+    ).toContain('gauge/absolute mix-up');
+    // The detector's reason in readable units: 1800000 ms is 30 min.
+    expect(await page.locator(`tr[data-alert="${alertId}"] [data-field="evidence"]`).textContent()).toContain(
+      'value -2.123 (u 0.2) entered the band; on-delay of 30 min held since',
+    );
     await page.click(`tr[data-alert="${alertId}"] button[data-action="acknowledge"]`);
     await page.waitForSelector(`tr[data-alert="${alertId}"][data-state="active_acknowledged"]`);
     const { rows } = await db.pool.query<{ state: string; acknowledged_by: string }>(
@@ -178,7 +294,36 @@ describe('dashboard in Chromium', () => {
       [alertId],
     );
     expect(rows[0]).toEqual({ state: 'active_acknowledged', acknowledged_by: 'eng' });
+    expect(await page.locator(`tr[data-alert="${alertId}"] [data-field="handled"]`).textContent()).toMatch(
+      /^acknowledged by eng \d{4}-\d\d-\d\d \d\d:\d\d UTC$/,
+    );
+    // The older, unacknowledged instrument alert now heads the list.
+    expect(await page.locator('tr[data-alert]').first().getAttribute('data-alert')).toBe(
+      String(instrumentAlertId),
+    );
     await page.screenshot({ path: `${ARTIFACTS}alerts.png`, fullPage: true });
+  });
+
+  it('shelves an alert for the period chosen and says until when', async () => {
+    const row = `tr[data-alert="${instrumentAlertId}"]`;
+    await page.selectOption(`${row} select[data-field="shelve-hours"]`, '24');
+    const before = Date.now();
+    await page.click(`${row} button[data-action="shelve"]`);
+    await page.waitForSelector(`${row}[data-state="shelved"]`);
+    const { rows } = await db.pool.query<{ until: number; by: string }>(
+      `SELECT extract(epoch FROM shelved_until) * 1000 AS until, shelved_by AS by FROM alerts WHERE id = $1`,
+      [instrumentAlertId],
+    );
+    expect(rows[0]!.by).toBe('eng');
+    expect(Number(rows[0]!.until) - before).toBeGreaterThan(23.9 * HOUR);
+    expect(Number(rows[0]!.until) - before).toBeLessThan(24.1 * HOUR);
+    expect(await page.locator(`${row} [data-field="handled"]`).textContent()).toContain(
+      'shelved by eng until',
+    );
+    // Shelved alerts go last.
+    expect(await page.locator('tr[data-alert]').last().getAttribute('data-alert')).toBe(
+      String(instrumentAlertId),
+    );
   });
 
   it('lists quarantined rows', async () => {
@@ -202,6 +347,35 @@ describe('dashboard in Chromium', () => {
     expect(csv).toContain('st1');
     expect(csv.trimEnd().split('\r\n').at(-1)).toBe(`"# ${CAUTION}"`);
     await page.screenshot({ path: `${ARTIFACTS}exports.png`, fullPage: true });
+  });
+
+  it('fits a phone: no page is wider than its 390 px screen', async () => {
+    const phone = await browser.newContext({
+      viewport: { width: 390, height: 844 },
+      storageState: await context.storageState(),
+    });
+    const small = await phone.newPage();
+    small.on('pageerror', (e) => pageErrors.push(e.message));
+    try {
+      for (const [name, path, ready] of [
+        ['fleet', '/', '#fleet[data-loaded="true"]'],
+        ['machine', `/machine.html?id=${turbineId}`, '#hs-chart[data-loaded="true"]'],
+        ['alerts', '/alerts.html', '#alerts[data-loaded="true"]'],
+        ['quarantine', '/quarantine.html', '#quarantine[data-loaded="true"]'],
+      ] as const) {
+        await small.goto(`${base}${path}`);
+        await small.waitForSelector(ready);
+        const width = await small.evaluate(
+          () =>
+            (globalThis as unknown as { document: { documentElement: { scrollWidth: number } } }).document
+              .documentElement.scrollWidth,
+        );
+        expect(width, name).toBeLessThanOrEqual(390);
+        await small.screenshot({ path: `${ARTIFACTS}phone-${name}.png`, fullPage: true });
+      }
+    } finally {
+      await phone.close();
+    }
   });
 
   it('ran every page without a script error or a refused resource (CSP)', () => {

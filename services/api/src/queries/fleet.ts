@@ -29,13 +29,15 @@ export interface FleetRow {
   warning: number | null;
   alarm: number | null;
   open_alerts: number;
+  open_drift: number;
+  open_instrument: number;
   baseline_id: number | null;
 }
 
 /**
  * One row per machine for the fleet page: the mean efficiency over the hour before its newest
  * valid result, the baseline and drift over the same results (baseline evaluated per result),
- * data health over the last day, open alerts and bands. One statement, one round trip.
+ * data health over the last day, open alerts (drift and instrument apart) and bands. One statement, one round trip.
  */
 export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[]> {
   const { rows } = await withoutJit(pool, (client) =>
@@ -45,12 +47,18 @@ export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[
             cur.eff, cur.u_eff, coalesce(cur.n, 0) AS n_current, cur.x, cur.power, cur.baseline, cur.drift,
             coalesce(h.n, 0) AS n_health, coalesce(h.n_valid, 0) AS n_health_valid, lr.flags AS last_flags,
             bd.warning, bd.alarm,
-            (SELECT count(*)::int FROM alerts a WHERE a.machine_id = m.id AND a.state <> 'normal') AS open_alerts,
+            oa.n AS open_alerts, oa.drift AS open_drift, oa.instrument AS open_instrument,
             b.id::int AS baseline_id
        FROM machines m
        JOIN sites s ON s.id = m.site_id
        LEFT JOIN baselines b ON b.machine_id = m.id AND b.active
        LEFT JOIN bands bd ON bd.machine_id = m.id
+       CROSS JOIN LATERAL (
+         SELECT count(*)::int AS n,
+                count(*) FILTER (WHERE a.category = 'drift')::int AS drift,
+                count(*) FILTER (WHERE a.category = 'instrument')::int AS instrument
+           FROM alerts a WHERE a.machine_id = m.id AND a.state <> 'normal'
+       ) oa
        LEFT JOIN LATERAL (SELECT time, flags FROM results r WHERE r.machine_id = m.id ORDER BY time DESC LIMIT 1) lr ON true
        LEFT JOIN LATERAL (SELECT time FROM results r WHERE r.machine_id = m.id AND r.valid ORDER BY time DESC LIMIT 1) lv ON true
        LEFT JOIN LATERAL (

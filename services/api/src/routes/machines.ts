@@ -76,6 +76,9 @@ const fleetItem = z.object({
     lastFlags: z.array(z.string()),
   }),
   openAlerts: z.number().int(),
+  openAlertsByCategory: z
+    .object({ drift: z.number().int(), instrument: z.number().int() })
+    .describe('Open alerts on efficiency drift and on instruments, kept apart'),
 });
 
 const tagSchema = z.object({
@@ -192,6 +195,7 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
             lastFlags: r.last_flags ?? [],
           },
           openAlerts: r.open_alerts,
+          openAlertsByCategory: { drift: r.open_drift, instrument: r.open_instrument },
         })),
       };
     },
