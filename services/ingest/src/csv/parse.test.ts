@@ -63,6 +63,12 @@ describe('parseCsv', () => {
     expect(parseValue('1e200', false)).toEqual({ ok: true, value: 1e200 });
   });
 
+  it('names a delimiter mismatch when the header is one column', async () => {
+    await expect(run('time;ST1.PI-100\n2026-01-01T00:00:00Z;1\n', {})).rejects.toThrow(
+      'the header has no tag columns; it holds ";" but this source splits on ",": set the source\'s delimiter',
+    );
+  });
+
   it('notes a file with a header and no data rows once, at the header line', async () => {
     const r = await run('\ufefftime,ST1.PI-100\r\n\r\n', {});
     expect(r.samples).toEqual([]);

@@ -313,11 +313,18 @@ export async function parseCsv(
         { reason: 'no-time-column', header: names },
       );
     }
-    if (width < 2)
-      throw new IngestError('INGEST_FILE_UNREADABLE', 'the header has no tag columns', {
+    if (width < 2) {
+      // A header of one column that holds another common delimiter is a delimiter mismatch: say which.
+      const other = [';', '\t', ',', '|'].find((d) => d !== format.delimiter && header.text.includes(d));
+      const hint =
+        other === undefined
+          ? ''
+          : `; it holds "${other === '\t' ? 'tab' : other}" but this source splits on "${format.delimiter}": set the source's delimiter`;
+      throw new IngestError('INGEST_FILE_UNREADABLE', `the header has no tag columns${hint}`, {
         reason: 'no-tag-columns',
         header: names,
       });
+    }
     const columns: WideColumn[] = [];
     const seen = new Map<number, string>();
     for (let i = 0; i < width; i++) {
