@@ -262,8 +262,9 @@ export interface BackfillOptions extends ComputeOptions {
   /** Samples read per chunk [ms]; default one day. */
   readonly chunkMs?: number;
   /**
-   * Compute worker threads; default one per core (at most 4). 0 computes on the main thread, as
-   * does a backfill with its own `fluids` resolver (a function cannot be sent to a worker).
+   * Compute worker threads; default one per core (at most 4) for 50,000 grid points or more, else
+   * 0. 0 computes on the main thread, as does a backfill with its own `fluids` resolver (a
+   * function cannot be sent to a worker).
    */
   readonly workers?: number;
   /** Machines in progress at the same time (their database waits overlap); default workers + 1, at least 3. */
@@ -275,6 +276,9 @@ export interface BackfillOptions extends ComputeOptions {
    */
   readonly advanceWatermark?: boolean;
 }
+
+/** Grid points below which a backfill computes on the main thread by default. */
+const MIN_POINTS_FOR_WORKERS = 50_000;
 
 export interface BackfillStats {
   readonly machines: number;
@@ -310,7 +314,12 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
   options.onProgress?.(0, total);
   // Every machine is prepared first, so a bad configuration fails before any row is written.
   const machines = rows.map((row) => prepareMachine(row, options.fluids ?? defaultFluidResolver));
-  const threads = options.fluids === undefined ? (options.workers ?? defaultComputeThreads()) : 0;
+  // Threads take about half a second each to start and warm up, so a small range stays on the
+  // main thread unless workers are asked for.
+  const threads =
+    options.fluids !== undefined
+      ? 0
+      : (options.workers ?? (total >= MIN_POINTS_FOR_WORKERS ? defaultComputeThreads() : 0));
   const workers = threads > 0 ? new ComputeWorkers(threads) : undefined;
   // A few machines at once, so every worker has work while the others wait on the database.
   const lanes = Math.max(1, Math.min(options.concurrency ?? Math.max(3, threads + 1), machines.length));
