@@ -8,6 +8,7 @@ export * from './analysis/windows.js';
 export * from './compute/config.js';
 export * from './compute/job.js';
 export * from './compute/pipeline.js';
+export { ComputeWorkers, defaultComputeThreads } from './compute/workers.js';
 export * from './errors.js';
 export * from './instrument/gauge-absolute.js';
 export * from './monthly/job.js';

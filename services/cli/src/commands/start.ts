@@ -2,7 +2,7 @@ import { readFile } from 'node:fs/promises';
 import { buildApp, createMetricsRegistry, type MountedPlugin } from '@isentrope/api';
 import { type PreparedDemo, prepareDemo, startDemoFeed } from '@isentrope/demo';
 import { httpPushRoutes, sha256Hex, startIngest } from '@isentrope/ingest';
-import { backfill, backfillAnalysis, runAlertsOnce, startJobs } from '@isentrope/jobs';
+import { backfill, backfillAnalysis, ComputeWorkers, runAlertsOnce, startJobs } from '@isentrope/jobs';
 import { migrate, openDatabase } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
@@ -28,22 +28,30 @@ async function computeDemoHistory(
   const progress = createProgress('demo results', log);
   const fineShare = (end - fineFrom) * 15;
   const weight = fineShare + (fineFrom - from);
-  if (fineFrom > from) {
+  // One set of compute threads for both grids: they start and warm up once.
+  const workers = new ComputeWorkers();
+  try {
+    if (fineFrom > from) {
+      await backfill(pool, {
+        from,
+        to: fineFrom,
+        gridMs: 900_000,
+        workers,
+        onProgress: (done, total) =>
+          progress.update((total === 0 ? 1 : done / total) * ((fineFrom - from) / weight)),
+      });
+    }
     await backfill(pool, {
-      from,
-      to: fineFrom,
-      gridMs: 900_000,
+      from: fineFrom,
+      to: end,
+      advanceWatermark: true,
+      workers,
       onProgress: (done, total) =>
-        progress.update((total === 0 ? 1 : done / total) * ((fineFrom - from) / weight)),
+        progress.update((fineFrom - from) / weight + (total === 0 ? 1 : done / total) * (fineShare / weight)),
     });
+  } finally {
+    await workers.close();
   }
-  await backfill(pool, {
-    from: fineFrom,
-    to: end,
-    advanceWatermark: true,
-    onProgress: (done, total) =>
-      progress.update((fineFrom - from) / weight + (total === 0 ? 1 : done / total) * (fineShare / weight)),
-  });
   progress.done();
   const analysis = createProgress('demo drift and alerts', log);
   await backfillAnalysis(pool, { nowMs: end });

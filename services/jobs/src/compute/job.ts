@@ -264,9 +264,10 @@ export interface BackfillOptions extends ComputeOptions {
   /**
    * Compute worker threads; default one per core (at most 4) for 50,000 grid points or more, else
    * 0. 0 computes on the main thread, as does a backfill with its own `fluids` resolver (a
-   * function cannot be sent to a worker).
+   * function cannot be sent to a worker). A ComputeWorkers of the caller's is used as it is and
+   * left open, so several backfills in a row start and warm up their threads once.
    */
-  readonly workers?: number;
+  readonly workers?: number | ComputeWorkers;
   /** Machines in progress at the same time (their database waits overlap); default workers + 1, at least 3. */
   readonly concurrency?: number;
   /**
@@ -316,11 +317,18 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
   const machines = rows.map((row) => prepareMachine(row, options.fluids ?? defaultFluidResolver));
   // Threads take about half a second each to start and warm up, so a small range stays on the
   // main thread unless workers are asked for.
+  const given = options.workers instanceof ComputeWorkers ? options.workers : undefined;
   const threads =
     options.fluids !== undefined
       ? 0
-      : (options.workers ?? (total >= MIN_POINTS_FOR_WORKERS ? defaultComputeThreads() : 0));
-  const workers = threads > 0 ? new ComputeWorkers(threads) : undefined;
+      : given !== undefined
+        ? given.threads
+        : typeof options.workers === 'number'
+          ? options.workers
+          : total >= MIN_POINTS_FOR_WORKERS
+            ? defaultComputeThreads()
+            : 0;
+  const workers = threads === 0 ? undefined : (given ?? new ComputeWorkers(threads));
   // A few machines at once, so every worker has work while the others wait on the database.
   const lanes = Math.max(1, Math.min(options.concurrency ?? Math.max(3, threads + 1), machines.length));
   let nextMachine = 0;
@@ -343,7 +351,7 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
   };
   // Every lane runs to its end before the workers close; then the first failure is thrown.
   const settled = await Promise.allSettled(Array.from({ length: lanes }, lane));
-  await workers?.close();
+  if (given === undefined) await workers?.close();
   for (const s of settled) if (s.status === 'rejected') throw s.reason;
   if (options.advanceWatermark === true) {
     const marks = await readComputeWatermarks(

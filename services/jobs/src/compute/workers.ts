@@ -5,6 +5,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { Piscina } from 'piscina';
+import { JobsError } from '../errors.js';
 import type { MachineRow } from './config.js';
 import type { RawSeries, ResolvedComputeOptions } from './pipeline.js';
 import type { ComputeTask, ComputeTaskResult } from './worker-task.js';
@@ -15,14 +16,23 @@ export function defaultComputeThreads(): number {
 }
 
 export class ComputeWorkers {
-  private readonly pool: Piscina<ComputeTask, ComputeTaskResult>;
+  /** Started on the first task, so an unused set costs nothing. */
+  private pool: Piscina<ComputeTask, ComputeTaskResult> | undefined;
 
   constructor(readonly threads: number = defaultComputeThreads()) {
-    this.pool = new Piscina({
+    if (!(Number.isInteger(threads) && threads >= 1))
+      throw new JobsError('JOBS_BAD_CONFIG', `compute threads ${threads} must be an integer >= 1`, {
+        threads,
+      });
+  }
+
+  private started(): Piscina<ComputeTask, ComputeTaskResult> {
+    this.pool ??= new Piscina({
       filename: new URL('./worker-entry.mjs', import.meta.url).href,
-      minThreads: threads,
-      maxThreads: threads,
+      minThreads: this.threads,
+      maxThreads: this.threads,
     });
+    return this.pool;
   }
 
   /** One machine's COPY body for [fromMs, toMs); the samples' arrays are moved to the worker. */
@@ -42,7 +52,7 @@ export class ComputeWorkers {
           transferList.push(column.buffer);
         }
     const task: ComputeTask = { machine, samples, fromMs, toMs, options };
-    const result = await this.pool.run(task, { transferList });
+    const result = await this.started().run(task, { transferList });
     return {
       body: Buffer.from(result.body.buffer, result.body.byteOffset, result.body.byteLength),
       rows: result.rows,
@@ -50,6 +60,8 @@ export class ComputeWorkers {
   }
 
   async close(): Promise<void> {
-    await this.pool.destroy();
+    const pool = this.pool;
+    this.pool = undefined;
+    await pool?.destroy();
   }
 }
