@@ -14,12 +14,13 @@ import {
   writeComputeWatermarks,
   writeResults,
 } from '../queries/results.js';
-import { encodeResultRows } from '../queries/results-copy.js';
+import { ResultCopyBody } from '../queries/results-copy.js';
 import { earliestSample, readSamples } from '../queries/samples.js';
 import { defaultFluidResolver, type FluidResolver, type PreparedMachine, prepareMachine } from './config.js';
 import {
   type ComputeOptions,
   computeRange,
+  computeRangeInto,
   type RawSeries,
   type ResolvedComputeOptions,
   type ResultRow,
@@ -138,8 +139,9 @@ function encodeInProcess(
   toMs: number,
   o: ResolvedComputeOptions,
 ): { body: Buffer; rows: number } {
-  const rows = computeRange(machine, samples, fromMs, toMs, o);
-  return { body: encodeResultRows(rows, machine.row.id, fromMs, toMs), rows: rows.length };
+  const out = new ResultCopyBody(machine.row.id, fromMs, toMs);
+  computeRangeInto(machine, samples, fromMs, toMs, o, (row) => out.add(row));
+  return { body: out.finish(), rows: out.rows };
 }
 
 /** One machine's share of an incremental run. */

@@ -406,10 +406,29 @@ export function computeRange(
   toMs: number,
   options: ResolvedComputeOptions,
 ): ResultRow[] {
+  const out: ResultRow[] = [];
+  computeRangeInto(machine, samples, fromMs, toMs, options, (row) => {
+    out.push(row);
+  });
+  return out;
+}
+
+/**
+ * computeRange handing each row to `emit` as soon as its segment is done, in time order; a
+ * caller that encodes rows as they come keeps a segment's rows alive, not a day's (measured:
+ * rows kept for a whole chunk outlive the young generation and cost a slow collection each).
+ */
+export function computeRangeInto(
+  machine: PreparedMachine,
+  samples: ReadonlyMap<number, RawSeries>,
+  fromMs: number,
+  toMs: number,
+  options: ResolvedComputeOptions,
+  emit: (row: ResultRow) => void,
+): void {
   if (!Number.isFinite(fromMs) || !Number.isFinite(toMs) || toMs < fromMs)
     throw new JobsError('JOBS_BAD_RANGE', `bad compute range ${fromMs} to ${toMs} [ms]`, { fromMs, toMs });
-  const out: ResultRow[] = [];
-  if (toMs === fromMs) return out;
+  if (toMs === fromMs) return;
   const { segmentMs, stepMs } = options;
   const first = Math.floor(fromMs / segmentMs) * segmentMs;
   const last = Math.ceil(toMs / segmentMs) * segmentMs;
@@ -423,9 +442,8 @@ export function computeRange(
   for (let seg = first; seg < toMs; seg += segmentMs) {
     const a = Math.max(fromMs, seg);
     const b = Math.min(toMs, seg + segmentMs);
-    if (b > a) computeSegment(chunk, seg, a, b, options, out);
+    if (b > a) computeSegment(chunk, seg, a, b, options, emit);
   }
-  return out;
 }
 
 /** A view of rows [g0, g1) of an aligned grid, with the SI values in place of the aligned ones. */
@@ -507,7 +525,7 @@ function computeSegment(
   outFrom: number,
   outTo: number,
   o: ResolvedComputeOptions,
-  rows: ResultRow[],
+  emit: (row: ResultRow) => void,
 ): void {
   const { stepMs } = o;
   const machine = ch.machine;
@@ -596,7 +614,7 @@ function computeSegment(
     row.steady = isSteady;
     row.flags = flags;
     row.valid = validation.valid[i] === 1 && e.modelValid;
-    rows.push(row);
+    emit(row);
   }
 }
 

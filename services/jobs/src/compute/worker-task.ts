@@ -3,9 +3,9 @@
  * pipeline as in-process runs and encoded as a COPY body where they were computed, so only bytes
  * travel back to the main thread (the rows as objects would cost more to copy than to encode).
  */
-import { encodeResultRows } from '../queries/results-copy.js';
+import { ResultCopyBody } from '../queries/results-copy.js';
 import { defaultFluidResolver, type MachineRow, type PreparedMachine, prepareMachine } from './config.js';
-import { computeRange, type RawSeries, type ResolvedComputeOptions } from './pipeline.js';
+import { computeRangeInto, type RawSeries, type ResolvedComputeOptions } from './pipeline.js';
 
 export interface ComputeTask {
   readonly machine: MachineRow;
@@ -31,8 +31,8 @@ export function runComputeTask(task: ComputeTask): ComputeTaskResult {
     machine = prepareMachine(task.machine, defaultFluidResolver);
     prepared.set(key, machine);
   }
-  const rows = computeRange(machine, task.samples, task.fromMs, task.toMs, task.options);
+  const out = new ResultCopyBody(task.machine.id, task.fromMs, task.toMs);
+  computeRangeInto(machine, task.samples, task.fromMs, task.toMs, task.options, (row) => out.add(row));
   // slice(): a tight copy, since cloning a view would copy the encoder's whole buffer.
-  const body = encodeResultRows(rows, task.machine.id, task.fromMs, task.toMs).slice();
-  return { body, rows: rows.length };
+  return { body: out.finish().slice(), rows: out.rows };
 }

@@ -180,6 +180,50 @@ function timestamp(v: DataView, o: number, us: number): number {
 }
 
 /**
+ * A COPY body built row by row for one machine and [fromMs, toMs): each row is checked and
+ * encoded as it comes, so a caller that streams its rows keeps none of them alive.
+ */
+export class ResultCopyBody {
+  private readonly enc = new CopyEncoder();
+  private readonly computedAtUs: number;
+  rows = 0;
+
+  constructor(
+    private readonly machineId: number,
+    private readonly fromMs: number,
+    private readonly toMs: number,
+    computedAtMs: number = Date.now(),
+  ) {
+    this.computedAtUs = (computedAtMs - PG_EPOCH_MS) * 1000;
+    this.enc.header();
+  }
+
+  /** Throws JOBS_BAD_RANGE for a row of another machine or outside the range. */
+  add(r: ResultRow): void {
+    if (r.machineId !== this.machineId || !(r.time >= this.fromMs && r.time < this.toMs))
+      throw new JobsError(
+        'JOBS_BAD_RANGE',
+        'a result row lies outside the machine and range being replaced',
+        {
+          machineId: this.machineId,
+          fromMs: this.fromMs,
+          toMs: this.toMs,
+          rowMachineId: r.machineId,
+          rowTime: r.time,
+        },
+      );
+    this.enc.row(r, this.computedAtUs);
+    this.rows++;
+  }
+
+  /** The finished body (header, rows, trailer). */
+  finish(): Buffer {
+    this.enc.trailer();
+    return this.enc.take();
+  }
+}
+
+/**
  * A whole COPY body (header, rows, trailer) for rows of one machine in [fromMs, toMs); throws
  * JOBS_BAD_RANGE, before anything is written, for a row of another machine or time.
  */
@@ -190,24 +234,7 @@ export function encodeResultRows(
   toMs: number,
   computedAtMs: number = Date.now(),
 ): Buffer {
-  const enc = new CopyEncoder();
-  enc.header();
-  const computedAtUs = (computedAtMs - PG_EPOCH_MS) * 1000;
-  for (const r of rows) {
-    if (r.machineId !== machineId || !(r.time >= fromMs && r.time < toMs))
-      throw new JobsError(
-        'JOBS_BAD_RANGE',
-        'a result row lies outside the machine and range being replaced',
-        {
-          machineId,
-          fromMs,
-          toMs,
-          rowMachineId: r.machineId,
-          rowTime: r.time,
-        },
-      );
-    enc.row(r, computedAtUs);
-  }
-  enc.trailer();
-  return enc.take();
+  const body = new ResultCopyBody(machineId, fromMs, toMs, computedAtMs);
+  for (const r of rows) body.add(r);
+  return body.finish();
 }
