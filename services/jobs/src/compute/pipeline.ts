@@ -491,19 +491,16 @@ function lookbackPoint(ch: Chunk, g0: number, gs: number): LinPoint | undefined 
   if (mask < 0) return undefined;
   const idx: number[] = [];
   for (let j = g0; j < gs; j++) if (ch.status[j] === ST_MODEL && maskAt(ch.x, j) === mask) idx.push(j);
-  const x0 = new Float64Array(N_INPUTS);
+  const x0 = new Float64Array(N_INPUTS).fill(Number.NaN);
   const u0 = new Float64Array(N_INPUTS);
   const buf = new Float64Array(idx.length);
   for (let k = 0; k < N_INPUTS; k++) {
-    for (const [src, dst] of [
-      [ch.x, x0],
-      [ch.u, u0],
-    ] as const) {
-      idx.forEach((j, q) => {
-        buf[q] = src[j * N_INPUTS + k] as number;
-      });
-      dst[k] = median(buf);
-    }
+    // An absent input stays NaN with u = 0, as every point of this mask has it.
+    if ((mask & (1 << k)) === 0) continue;
+    for (let q = 0; q < idx.length; q++) buf[q] = ch.x[(idx[q] as number) * N_INPUTS + k] as number;
+    x0[k] = medianInPlace(buf);
+    for (let q = 0; q < idx.length; q++) buf[q] = ch.u[(idx[q] as number) * N_INPUTS + k] as number;
+    u0[k] = medianInPlace(buf);
   }
   return { x0, u0, lin: undefined };
 }
@@ -512,11 +509,12 @@ function maskAt(x: Float64Array, j: number): number {
   return maskOf(x, j * N_INPUTS);
 }
 
-function median(a: Float64Array): number {
-  const s = Float64Array.from(a).sort();
-  const n = s.length;
+/** Median of a scratch array, sorting it in place. */
+function medianInPlace(a: Float64Array): number {
+  const n = a.length;
   if (n === 0) return Number.NaN;
-  return n % 2 === 1 ? (s[n >> 1] as number) : ((s[(n >> 1) - 1] as number) + (s[n >> 1] as number)) / 2;
+  a.sort();
+  return n % 2 === 1 ? (a[n >> 1] as number) : ((a[(n >> 1) - 1] as number) + (a[n >> 1] as number)) / 2;
 }
 
 function computeSegment(
