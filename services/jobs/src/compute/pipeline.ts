@@ -551,8 +551,10 @@ function computeSegment(
     const rawRef = (firstRaw - tag.intercept) / tag.slope;
     return {
       role: tag.role,
-      ...(lo !== undefined ? { min: Math.min(lo, hi ?? lo) } : {}),
-      ...(hi !== undefined ? { max: Math.max(hi, lo ?? hi) } : {}),
+      // Always both keys (undefined when absent): one object shape for every tag keeps
+      // validateAligned optimised (shapes varying by tag made it deoptimise, measured).
+      min: lo !== undefined ? Math.min(lo, hi ?? lo) : undefined,
+      max: hi !== undefined ? Math.max(hi, lo ?? hi) : undefined,
       // Every model tag decides validity (a bad outlet temperature spoils the efficiency);
       // steadiness is judged on the key roles only, below.
       key: true,
