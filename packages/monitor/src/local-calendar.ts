@@ -3,17 +3,27 @@
  * Plants plan in local time: at a Berlin site "March 2026" runs from local midnight on 1 March to
  * local midnight on 1 April, and the day the clocks change has 23 or 25 hours.
  *
- * Offsets come from the IANA time-zone database the runtime carries (Intl, ICU). A day starts at
- * local midnight; where the clocks jump over midnight (some zones change at 00:00), it starts at
- * the jump, the first instant of that local date. Assumed: a zone changes its offset at most once
- * within a day either side of a midnight (true of every zone in the database for modern dates,
- * common practice, no source); the ingest service's zone resolver assumes the same.
+ * luxon does the zone work: offsets from the IANA time-zone database the runtime carries (Intl,
+ * ICU), local wall times turned into instants, calendar arithmetic, ISO 8601 with offsets.
+ * What we decide on top of it:
+ * - A day starts at local midnight. Where midnight occurs twice (clocks back over it), the earlier
+ *   one: luxon lists both (getPossibleOffsets) and we take the first (luxon's own pick follows
+ *   the offset of its first guess, which for fromObject is today's).
+ * - Where the clocks jump over midnight (some zones change at 24:00), the day starts at the jump,
+ *   the first instant of that local date: luxon moves a skipped wall time forward by the jump,
+ *   and a jump from 24:00 lands on it. A jump that straddles midnight instead starts the day at
+ *   midnight of the old offset, after the jump: in tzdata 2025b only Toronto and its links on
+ *   31 March 1919 (23:30 to 00:30, so the day starts 30 minutes late; every transition zdump
+ *   lists for 1800-2040 was checked).
+ * - Assumed, as luxon and the ingest service's zone resolver assume: a zone changes its offset at
+ *   most once within a day either side of a midnight (common practice, no source).
+ * - A wall time is turned into an instant from an offset guess at that date, not at today's date,
+ *   so results never depend on the clock.
  *
- * Pure: no clock, no I/O; the zone's rules are read from the runtime's built-in data.
+ * Pure: no I/O, nothing depends on the clock; the zone rules are the runtime's built-in data.
  */
+import { DateTime, type DateTimeMaybeValid, IANAZone } from 'luxon';
 import { MonitorBadInputError } from './errors.js';
-
-const DAY_MS = 86_400_000;
 
 /** A span [fromMs, toMs) of local calendar time, with its bounds as ISO 8601 with UTC offsets. */
 export interface LocalPeriod {
@@ -40,105 +50,83 @@ export interface LocalDay {
   readonly toMs: number;
 }
 
-const formatters = new Map<string, Intl.DateTimeFormat>();
+const knownZones = new Set<string>();
 
-function formatter(timeZone: string): Intl.DateTimeFormat {
-  let f = formatters.get(timeZone);
-  if (f === undefined) {
-    try {
-      f = new Intl.DateTimeFormat('en-US', {
-        timeZone,
-        hourCycle: 'h23',
-        year: 'numeric',
-        month: 'numeric',
-        day: 'numeric',
-        hour: 'numeric',
-        minute: 'numeric',
-        second: 'numeric',
-      });
-    } catch {
+/**
+ * The zone as a luxon IANAZone, never luxon's fixed UTC zone: 'UTC' then writes offsets as
+ * '+00:00' like every other zone, not 'Z'.
+ */
+function zoneOf(timeZone: string): IANAZone {
+  // isValidZone() builds a formatter on every call, and create() would cache an unknown name too
+  // (names come from requests): check a name once, and cache only the zones that exist.
+  if (!knownZones.has(timeZone)) {
+    if (!IANAZone.isValidZone(timeZone))
       throw new MonitorBadInputError(
         'timeZone',
         timeZone,
         'is not an IANA time zone this runtime knows; use a name such as "Europe/Berlin" or "UTC"',
       );
-    }
-    formatters.set(timeZone, f);
+    knownZones.add(timeZone);
   }
-  return f;
+  return IANAZone.create(timeZone);
 }
 
 /** Throws MonitorBadInputError unless the runtime knows this IANA time zone. */
 export function assertTimeZone(timeZone: string): void {
-  formatter(timeZone);
+  zoneOf(timeZone);
+}
+
+/** An instant [ms] in a zone; refuses NaN and instants beyond luxon's range (±100 million days). */
+function at(zone: IANAZone, ms: number): DateTime<true> {
+  const t = DateTime.fromMillis(ms, { zone });
+  if (!t.isValid)
+    throw new MonitorBadInputError('ms', ms, 'must be a finite instant in ms since 1970-01-01T00:00:00Z');
+  return t;
 }
 
 /** The zone's offset from UTC at an instant [ms], local minus UTC (+01:00 gives 3 600 000). */
 export function zoneOffsetMs(timeZone: string, ms: number): number {
-  const whole = Math.floor(ms / 1000) * 1000;
-  const p: Record<string, number> = {};
-  for (const part of formatter(timeZone).formatToParts(new Date(whole)))
-    if (part.type !== 'literal') p[part.type] = Number(part.value);
-  const wall = Date.UTC(p.year!, p.month! - 1, p.day!, p.hour!, p.minute!, p.second!);
-  return wall - whole;
+  // luxon gives minutes, fractional for historic offsets with seconds; back to whole ms.
+  return Math.round(at(zoneOf(timeZone), ms).offset * 60_000);
 }
 
-/** The instant [ms] a local date begins: local midnight, or the jump when the clocks skip midnight. */
-function startOfLocalDate(timeZone: string, y: number, m: number, d: number): number {
-  const wall = Date.UTC(y, m - 1, d);
-  const before = zoneOffsetMs(timeZone, wall - DAY_MS);
-  const after = zoneOffsetMs(timeZone, wall + DAY_MS);
-  // The larger offset first: when midnight occurs twice, the earlier instant begins the day.
-  for (const o of before >= after ? [before, after] : [after, before])
-    if (zoneOffsetMs(timeZone, wall - o) === o) return wall - o;
-  // Midnight skipped (clocks forward over it): the day begins at the jump, found by bisection
-  // between an instant still before it (local time short of midnight) and one after it.
-  let lo = wall - after;
-  let hi = wall - before;
-  while (hi - lo > 1) {
-    const mid = Math.floor((lo + hi) / 2);
-    if (mid + zoneOffsetMs(timeZone, mid) >= wall) hi = mid;
-    else lo = mid;
-  }
-  return hi;
+/** A calendar date or month in the proleptic Gregorian calendar, with no zone (luxon on UTC). */
+function calendar(y: number, m: number, d = 1): DateTimeMaybeValid {
+  return DateTime.fromObject({ year: y, month: m, day: d }, { zone: 'utc' });
 }
 
-function pad(n: number, width = 2): string {
-  return String(n).padStart(width, '0');
+/** The instant [ms] a local date begins: local midnight, the earlier when it occurs twice. */
+function startOfLocalDate(zone: IANAZone, date: DateTime<true>): number {
+  // setZone(keepLocalTime) guesses the offset at the date itself (fromObject would guess today's).
+  const midnight = date.setZone(zone, { keepLocalTime: true });
+  return Math.min(...midnight.getPossibleOffsets().map((t) => t.toMillis()));
 }
 
-function civil(ms: number): { y: number; m: number; d: number } {
-  const t = new Date(ms);
-  return { y: t.getUTCFullYear(), m: t.getUTCMonth() + 1, d: t.getUTCDate() };
-}
-
-function parseMonth(month: string): { y: number; m: number } {
+function parseMonth(month: string): DateTime<true> {
   const r = /^(\d{4})-(0[1-9]|1[0-2])$/.exec(month);
-  if (r === null) throw new MonitorBadInputError('month', month, "must be 'YYYY-MM'");
-  return { y: Number(r[1]), m: Number(r[2]) };
+  const c = r === null ? undefined : calendar(Number(r[1]), Number(r[2]));
+  if (c === undefined || !c.isValid) throw new MonitorBadInputError('month', month, "must be 'YYYY-MM'");
+  return c;
 }
 
-function parseDate(date: string): { y: number; m: number; d: number } {
+function parseDate(date: string): DateTime<true> {
   const r = /^(\d{4})-(\d{2})-(\d{2})$/.exec(date);
-  const c = r === null ? undefined : civil(Date.UTC(Number(r[1]), Number(r[2]) - 1, Number(r[3])));
-  if (r === null || c === undefined || c.m !== Number(r[2]) || c.d !== Number(r[3]))
+  const c = r === null ? undefined : calendar(Number(r[1]), Number(r[2]), Number(r[3]));
+  if (c === undefined || !c.isValid)
     throw new MonitorBadInputError('date', date, "must be a calendar date 'YYYY-MM-DD'");
   return c;
 }
 
 /** An instant [ms] as local time with its UTC offset, ISO 8601 to the second ('...T00:00:00+05:30'). */
 export function isoLocal(timeZone: string, ms: number): string {
-  const offset = zoneOffsetMs(timeZone, ms);
+  const t = at(zoneOf(timeZone), Math.floor(ms / 1000) * 1000);
   // ISO 8601 offsets are whole minutes; a historic offset with seconds is written in UTC instead.
-  if (offset % 60_000 !== 0) return `${new Date(Math.floor(ms / 1000) * 1000).toISOString().slice(0, 19)}Z`;
-  const wall = new Date(Math.floor(ms / 1000) * 1000 + offset).toISOString().slice(0, 19);
-  const a = Math.abs(offset) / 60_000;
-  return `${wall}${offset < 0 ? '-' : '+'}${pad(Math.floor(a / 60))}:${pad(a % 60)}`;
+  return (Number.isInteger(t.offset) ? t : t.toUTC()).toISO({ suppressMilliseconds: true });
 }
 
 /** The local date 'YYYY-MM-DD' of an instant [ms]. */
 export function localDateOf(timeZone: string, ms: number): string {
-  return new Date(ms + zoneOffsetMs(timeZone, ms)).toISOString().slice(0, 10);
+  return at(zoneOf(timeZone), ms).toISODate();
 }
 
 /** The local month 'YYYY-MM' of an instant [ms]. */
@@ -148,9 +136,7 @@ export function localMonthOf(timeZone: string, ms: number): string {
 
 /** The month 'YYYY-MM' `k` months after `month` (k may be negative). */
 export function addMonths(month: string, k: number): string {
-  const { y, m } = parseMonth(month);
-  const c = civil(Date.UTC(y, m - 1 + k, 1));
-  return `${pad(c.y, 4)}-${pad(c.m)}`;
+  return parseMonth(month).plus({ months: k }).toISODate().slice(0, 7);
 }
 
 /** The month 'YYYY-MM' before `month`. */
@@ -160,16 +146,15 @@ export function previousMonth(month: string): string {
 
 /** The date 'YYYY-MM-DD' `k` days after `date` (k may be negative). */
 export function addDays(date: string, k: number): string {
-  const { y, m, d } = parseDate(date);
-  const c = civil(Date.UTC(y, m - 1, d + k));
-  return `${pad(c.y, 4)}-${pad(c.m)}-${pad(c.d)}`;
+  return parseDate(date).plus({ days: k }).toISODate();
 }
 
 /** A calendar month 'YYYY-MM' in a zone: local midnight on the 1st to local midnight on the next 1st. */
 export function localMonth(month: string, timeZone: string): LocalMonth {
-  const { y, m } = parseMonth(month);
-  const fromMs = startOfLocalDate(timeZone, y, m, 1);
-  const toMs = startOfLocalDate(timeZone, y, m + 1, 1);
+  const zone = zoneOf(timeZone);
+  const first = parseMonth(month);
+  const fromMs = startOfLocalDate(zone, first);
+  const toMs = startOfLocalDate(zone, first.plus({ months: 1 }));
   return {
     month,
     timeZone,
@@ -184,24 +169,23 @@ export function localMonth(month: string, timeZone: string): LocalMonth {
 export function localDays(timeZone: string, first: string, count: number): LocalDay[] {
   if (!Number.isInteger(count) || count < 0)
     throw new MonitorBadInputError('count', count, 'must be a whole number of days >= 0');
-  const { y, m, d } = parseDate(first);
+  const zone = zoneOf(timeZone);
+  let date = parseDate(first);
+  let start = startOfLocalDate(zone, date);
   const days: LocalDay[] = [];
-  let start = startOfLocalDate(timeZone, y, m, d);
   for (let k = 0; k < count; k++) {
-    const next = startOfLocalDate(timeZone, y, m, d + k + 1);
-    const c = civil(Date.UTC(y, m - 1, d + k));
-    days.push({ date: `${pad(c.y, 4)}-${pad(c.m)}-${pad(c.d)}`, fromMs: start, toMs: next });
-    start = next;
+    const next = date.plus({ days: 1 });
+    const end = startOfLocalDate(zone, next);
+    days.push({ date: date.toISODate(), fromMs: start, toMs: end });
+    date = next;
+    start = end;
   }
   return days;
 }
 
 /** The local days of a month, 1st to last. */
 export function localDaysOfMonth(month: string, timeZone: string): LocalDay[] {
-  const first = `${month}-01`;
-  const { y, m } = parseMonth(month);
-  const count = Math.round((Date.UTC(y, m, 1) - Date.UTC(y, m - 1, 1)) / DAY_MS);
-  return localDays(timeZone, first, count);
+  return localDays(timeZone, `${month}-01`, parseMonth(month).daysInMonth);
 }
 
 /**
