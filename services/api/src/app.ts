@@ -61,6 +61,13 @@ export interface ApiDependencies {
   readonly anonymousRole?: 'viewer' | 'engineer' | undefined;
   /** ISENTROPE_ADMIN_PASSWORD: password of the first admin; generated and logged once when absent. */
   readonly adminPassword?: string | undefined;
+  /**
+   * Tells the operator a generated first-admin password, once, in place of the log line (the CLI
+   * also writes it to a file in the data directory). Must not throw: the password exists nowhere else.
+   */
+  readonly announceGeneratedAdminPassword?:
+    | ((admin: { readonly username: string; readonly password: string }) => Promise<void>)
+    | undefined;
   /** Extra plugins to mount, each under its prefix. */
   readonly plugins?: readonly MountedPlugin[] | undefined;
   /** Shared metrics registry (other services add gauges); one is made when absent. */
@@ -227,12 +234,16 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
   app.addHook('onReady', async () => {
     try {
       const admin = await ensureInitialAdmin(deps.pool, deps.adminPassword);
-      if (admin.created && admin.generatedPassword !== undefined)
-        log.warn(
-          { username: admin.username, password: admin.generatedPassword },
-          'first start: created the user "admin" with this generated password, shown once; change it or set ISENTROPE_ADMIN_PASSWORD',
-        );
-      else if (admin.created)
+      if (admin.created && admin.generatedPassword !== undefined) {
+        const generated = { username: admin.username, password: admin.generatedPassword };
+        if (deps.announceGeneratedAdminPassword !== undefined)
+          await deps.announceGeneratedAdminPassword(generated);
+        else
+          log.warn(
+            generated,
+            'first start: created the user "admin" with this generated password, shown once; change it or set ISENTROPE_ADMIN_PASSWORD',
+          );
+      } else if (admin.created)
         log.info({ username: admin.username }, 'created the first admin from ISENTROPE_ADMIN_PASSWORD');
     } catch (error) {
       log.error({ err: error }, 'could not check for the first admin user');

@@ -54,6 +54,14 @@ describe('loadConfig', () => {
     expect(config.smtp?.to).toBe('reliability@example.org');
   });
 
+  it('reads the stop deadline in seconds, 10 s by default', () => {
+    expect(loadConfig({}).stopDeadlineMs).toBe(10_000);
+    expect(loadConfig({ ISENTROPE_STOP_TIMEOUT: '2.5' }).stopDeadlineMs).toBe(2_500);
+    expect(() => loadConfig({ ISENTROPE_STOP_TIMEOUT: '0' })).toThrow(
+      /ISENTROPE_STOP_TIMEOUT="0": must be between 1 and 600 seconds/,
+    );
+  });
+
   it('refuses a webhook URL that is not a URL', () => {
     expect(() => loadConfig({ ISENTROPE_WEBHOOK_URL: 'not a url' })).toThrow(
       /ISENTROPE_WEBHOOK_URL="not a url"/,

@@ -1,5 +1,6 @@
 import { resolve } from 'node:path';
 import { z } from 'zod';
+import { DEFAULT_STOP_DEADLINE_MS } from './lifecycle.js';
 
 /**
  * The process environment, parsed once at start. A bad value stops the process with every
@@ -64,6 +65,11 @@ export const environmentSchema = z.object({
     .regex(/^[A-Z]{3}$/, 'must be an ISO 4217 currency code such as EUR or USD')
     .default('EUR'),
   ISENTROPE_INGEST: onOff.default(true),
+  ISENTROPE_STOP_TIMEOUT: z.coerce
+    .number({ message: 'must be a number of seconds' })
+    .min(1, 'must be between 1 and 600 seconds')
+    .max(600, 'must be between 1 and 600 seconds')
+    .default(DEFAULT_STOP_DEADLINE_MS / 1000),
 });
 
 export interface Config {
@@ -90,6 +96,8 @@ export interface Config {
   /** Energy price for the monthly export. */
   readonly energyPrice: { readonly perMWh: number; readonly currency: string } | undefined;
   readonly runIngest: boolean;
+  /** Time each part gets to stop at shutdown before it is left behind [ms]. */
+  readonly stopDeadlineMs: number;
 }
 
 export class ConfigError extends Error {
@@ -169,5 +177,6 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
         ? undefined
         : { perMWh: e.ISENTROPE_ENERGY_PRICE, currency: e.ISENTROPE_CURRENCY },
     runIngest: e.ISENTROPE_INGEST,
+    stopDeadlineMs: e.ISENTROPE_STOP_TIMEOUT * 1000,
   });
 }

@@ -1,14 +1,16 @@
 import { readFile } from 'node:fs/promises';
 import { buildApp, createMetricsRegistry, type MountedPlugin } from '@isentrope/api';
 import { type PreparedDemo, prepareDemo, startDemoFeed } from '@isentrope/demo';
-import { httpPushRoutes, sha256Hex, startIngest } from '@isentrope/ingest';
+import { httpPushRoutes, type IngestHealth, sha256Hex, startIngest } from '@isentrope/ingest';
 import { backfill, backfillAnalysis, ComputeWorkers, runAlertsOnce, startJobs } from '@isentrope/jobs';
-import { migrate, openDatabase } from '@isentrope/store';
+import { type Database, type DatabaseKind, migrate } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
 import type { Config } from '../config.js';
+import { initialAdminAnnouncer } from '../initial-admin.js';
 import { Lifecycle } from '../lifecycle.js';
 import { createProgress } from '../progress.js';
+import { openStartDatabase } from '../start-database.js';
 
 const DAY = 86_400_000;
 
@@ -67,6 +69,14 @@ async function wantDemo(config: Config, pool: pg.Pool): Promise<boolean> {
   return sites.rows.every((row) => row.slug === 'harbourside');
 }
 
+/** The ingest sources still running at shutdown, with their state and last error. */
+function sourcesNotStopped(health: IngestHealth): string {
+  return health.sources
+    .filter((source) => source.state !== 'stopped')
+    .map((s) => `${s.source}: ${s.state}${s.lastError === null ? '' : ` (${s.lastError})`}`)
+    .join('; ');
+}
+
 async function packageVersion(): Promise<string> {
   const text = await readFile(new URL('../../../../package.json', import.meta.url), 'utf8');
   const parsed: unknown = JSON.parse(text);
@@ -78,25 +88,37 @@ async function packageVersion(): Promise<string> {
 /** `isentrope start`: database, migrations, API (and, as they exist, ingest and jobs) in one process. */
 export async function startCommand(config: Config, logger: Logger): Promise<Lifecycle> {
   const startedAt = Date.now();
-  const lifecycle = new Lifecycle(logger);
+  const lifecycle = new Lifecycle(logger, { deadlineMs: config.stopDeadlineMs });
   lifecycle.handleSignals();
   const dbLog = logger.child({ module: 'database' });
-  const db = await openDatabase({
-    url: config.databaseUrl,
-    dataDir: config.dataDir,
-    embeddedPort: config.embeddedPostgresPort,
-    onEmbeddedLog: (line) => dbLog.debug(line.trim()),
+  const { db, kind, embedded } = await openStartDatabase(config, (line) => dbLog.debug(line.trim()));
+  // Registered first, so stopped last: the server after the pool, both after everything else.
+  if (embedded !== undefined)
+    lifecycle.add('embedded PostgreSQL', () => embedded.stop(), { evenWhenForced: true });
+  lifecycle.add('database pool', () => db.close(), {
+    doing: () => `connections in use: ${db.pool.totalCount - db.pool.idleCount}`,
   });
-  lifecycle.add('database', () => db.close());
-  dbLog.info({ kind: db.kind, url: db.displayUrl }, `using ${db.kind} PostgreSQL`);
-
+  dbLog.info({ kind, url: db.displayUrl }, `using ${kind} PostgreSQL`);
   try {
-    const report = await migrate(db.url, { logger: { info: (message) => dbLog.info(message) } });
-    dbLog.info({ applied: report.applied.length }, 'migrations up to date');
+    await startParts(config, logger, lifecycle, { db, kind, startedAt });
   } catch (error) {
-    await lifecycle.shutdown('migration failed');
+    // What did start is stopped again, the database last, so a failed start leaves nothing running.
+    await lifecycle.shutdown('start failed');
     throw error;
   }
+  return lifecycle;
+}
+
+/** Migrations, the demo when wanted, ingest, jobs and the API, each registered for the shutdown. */
+async function startParts(
+  config: Config,
+  logger: Logger,
+  lifecycle: Lifecycle,
+  { db, kind, startedAt }: { db: Database; kind: DatabaseKind; startedAt: number },
+): Promise<void> {
+  const dbLog = logger.child({ module: 'database' });
+  const report = await migrate(db.url, { logger: { info: (message) => dbLog.info(message) } });
+  dbLog.info({ applied: report.applied.length }, 'migrations up to date');
 
   const demoOn = await wantDemo(config, db.pool);
   let demo: PreparedDemo | undefined;
@@ -135,7 +157,7 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
       // The demo's plant file carries its sources; otherwise they come from the sources table.
       ...(demo === undefined ? {} : { plant: demo.plant }),
     });
-    lifecycle.add('ingest', () => ingest.stop());
+    lifecycle.add('ingest', () => ingest.stop(), { doing: () => sourcesNotStopped(ingest.health()) });
     metrics.gauge('isentrope_ingest_sources', 'Ingest sources running (1) or not (0), by source', () =>
       ingest.health().sources.map((source) => ({
         labels: { source: source.source, kind: source.kind },
@@ -178,12 +200,13 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
   const anonymous = config.anonymousRole ?? (demoOn && loopback ? 'engineer' : 'none');
   const app = await buildApp({
     pool: db.pool,
-    database: { kind: db.kind, displayUrl: db.displayUrl },
+    database: { kind, displayUrl: db.displayUrl },
     logger,
     version: await packageVersion(),
     startedAt,
     ...(anonymous === 'none' ? {} : { anonymousRole: anonymous }),
     ...(config.adminPassword === undefined ? {} : { adminPassword: config.adminPassword }),
+    announceGeneratedAdminPassword: initialAdminAnnouncer(config.dataDir, logger),
     ...(config.energyPrice === undefined ? {} : { energyPrice: config.energyPrice }),
     metrics,
     plugins,
@@ -197,5 +220,4 @@ export async function startCommand(config: Config, logger: Logger): Promise<Life
     { url: `http://${shownHost}:${port}/` },
     `Isentrope is running: open http://${shownHost}:${port}/`,
   );
-  return lifecycle;
 }
