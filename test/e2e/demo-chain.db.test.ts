@@ -24,6 +24,8 @@ interface AlertRow {
   tag: string | null;
   message: string;
   evidence: Record<string, unknown>;
+  raised_at: Date;
+  condition_since: Date | null;
 }
 
 describe('demo plant, end to end over 14 days', () => {
@@ -41,7 +43,7 @@ describe('demo plant, end to end over 14 days', () => {
     // The alert job judges minute by minute from where it last stopped; catch up the whole span.
     await runAlertsOnce(db.pool, { nowMs: demo.historyEnd, maxCatchUpMs: 15 * DAY });
     const rows = await db.pool.query<AlertRow>(
-      `SELECT m.slug, a.category, a.level, t.name AS tag, a.message, a.evidence
+      `SELECT m.slug, a.category, a.level, t.name AS tag, a.message, a.evidence, a.raised_at, a.condition_since
          FROM alerts a JOIN machines m ON m.id = a.machine_id LEFT JOIN tags t ON t.id = a.tag_id
         ORDER BY a.raised_at`,
     );
@@ -63,6 +65,25 @@ describe('demo plant, end to end over 14 days', () => {
     }
   });
 
+  it('dates the ac-1 drift alarm from when the scripted fouling crossed the alarm level', () => {
+    const alarm = alerts.find((a) => a.slug === 'ac-1' && a.category === 'drift' && a.level === 'alarm');
+    expect(alarm).toBeDefined();
+    if (alarm === undefined) return;
+    const alarmPts = (alarm.evidence.band as { alarmPts: number }).alarmPts;
+    // Truth: the first minute at which the scripted loss (services/demo/src/scenario.ts) is beyond the alarm level.
+    let crossing = demo.span.start;
+    while (-scriptedLoss(demo.span, 'ac-1', crossing) >= alarmPts) crossing += 60_000;
+    expect(crossing).toBeLessThan(demo.span.end);
+    const since = alarm.condition_since?.getTime() ?? Number.NaN;
+    // Within a day: the loss grows 0.57 points a day here (6 points over 10.5 days), so a day is
+    // about half a point of drift, inside the 1-point agreement of the daily means checked below.
+    expect(Math.abs(since - crossing)).toBeLessThanOrEqual(DAY);
+    // Not after the alarm was raised (the escalation from the warning the row was first raised with).
+    expect(since).toBeLessThanOrEqual(Date.parse(alarm.evidence.raisedAt as string));
+    expect(alarm.evidence.conditionSince).toBe(new Date(since).toISOString().replace('.000Z', 'Z'));
+    expect(alarm.message).toContain(`condition since ${alarm.evidence.conditionSince}`);
+  });
+
   it('reports the stuck discharge-pressure transmitter of bfp-1 as an instrument fault, not as drift', () => {
     const instrument = alerts.filter((a) => a.slug === 'bfp-1' && a.category === 'instrument');
     expect(instrument.map((a) => a.tag)).toContain('BFP1.PI-20');
@@ -80,6 +101,16 @@ describe('demo plant, end to end over 14 days', () => {
       [demo.span.start + 0.82 * (demo.span.end - demo.span.start)],
     );
     expect(flagged.rows[0]?.n ?? 0).toBeGreaterThan(0);
+    // The alert dates the fault from the finding: the first result at the new level, at 80 % of
+    // the span (scenario truth), within the hour.
+    const mixUp = instrument.find(
+      (a) => a.tag === 'GB1.PI-10' && (a.evidence.faults as string[]).includes('gauge-absolute'),
+    );
+    expect(mixUp?.evidence.conditionSinceBasis).toContain('instrument finding');
+    const since = mixUp?.condition_since?.getTime() ?? Number.NaN;
+    expect(Math.abs(since - (demo.span.start + 0.8 * (demo.span.end - demo.span.start)))).toBeLessThanOrEqual(
+      3_600_000,
+    );
   });
 
   it('shows in the monthly export the degradation the scenario put into ac-1', async () => {
@@ -104,5 +135,53 @@ describe('demo plant, end to end over 14 days', () => {
     expect(ac1.ratePtsPerMonth ?? 0).toBeLessThan(0.7 * trueRate);
     expect(ac1.ratePtsPerMonth ?? 0).toBeGreaterThan(1.1 * trueRate);
     expect(report.caution).toContain('qualified engineers');
+  });
+
+  // Last: it clears the alerts of two machines and runs the alert job again.
+  it('on a first start (the alert job judging only the last day) dates the ac-1 alarm and the gb-1 mix-up from the history', async () => {
+    const ids = await db.pool.query<{ id: number; slug: string }>(
+      `SELECT id, slug FROM machines WHERE slug IN ('ac-1', 'gb-1')`,
+    );
+    const machineIds = ids.rows.map((r) => r.id);
+    await db.pool.query(
+      `DELETE FROM deliveries WHERE alert_event_id IN
+         (SELECT e.id FROM alert_events e JOIN alerts a ON a.id = e.alert_id WHERE a.machine_id = ANY($1))`,
+      [machineIds],
+    );
+    await db.pool.query(
+      `DELETE FROM alert_events WHERE alert_id IN (SELECT id FROM alerts WHERE machine_id = ANY($1))`,
+      [machineIds],
+    );
+    await db.pool.query(`DELETE FROM alerts WHERE machine_id = ANY($1)`, [machineIds]);
+    await db.pool.query(`DELETE FROM alert_band_state WHERE machine_id = ANY($1)`, [machineIds]);
+    // As services/cli's start does: once, as of the end of the history, with the default catch-up of 24 h.
+    await runAlertsOnce(db.pool, { nowMs: demo.historyEnd, machineIds });
+    const rows = await db.pool.query<AlertRow>(
+      `SELECT m.slug, a.category, a.level, t.name AS tag, a.message, a.evidence, a.raised_at, a.condition_since
+         FROM alerts a JOIN machines m ON m.id = a.machine_id LEFT JOIN tags t ON t.id = a.tag_id
+        WHERE a.machine_id = ANY($1)`,
+      [machineIds],
+    );
+    const alarm = rows.rows.find((a) => a.slug === 'ac-1' && a.category === 'drift');
+    expect(alarm?.level).toBe('alarm');
+    if (alarm === undefined) return;
+    // Raised in the last day, yet the condition dates from when the scripted loss
+    // (services/demo/src/scenario.ts) crossed the alarm level, days earlier, to the day.
+    expect(alarm.raised_at.getTime()).toBeGreaterThan(demo.historyEnd - DAY);
+    const alarmPts = (alarm.evidence.band as { alarmPts: number }).alarmPts;
+    let crossing = demo.span.start;
+    while (-scriptedLoss(demo.span, 'ac-1', crossing) >= alarmPts) crossing += 60_000;
+    const since = alarm.condition_since?.getTime() ?? Number.NaN;
+    expect(alarm.evidence.conditionSinceBasis).toContain('daily mean');
+    expect(Math.abs(since - crossing)).toBeLessThanOrEqual(DAY);
+    const mixUp = rows.rows.find((a) => a.tag === 'GB1.PI-10');
+    expect(mixUp?.raised_at.getTime()).toBeGreaterThan(demo.historyEnd - DAY);
+    expect(mixUp?.evidence.conditionSinceBasis).toContain('instrument finding');
+    expect(
+      Math.abs(
+        (mixUp?.condition_since?.getTime() ?? Number.NaN) -
+          (demo.span.start + 0.8 * (demo.span.end - demo.span.start)),
+      ),
+    ).toBeLessThanOrEqual(3_600_000);
   });
 });

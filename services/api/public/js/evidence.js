@@ -67,6 +67,13 @@ function rows(pairs) {
   return dl;
 }
 
+/** Since when the condition has held (the alert job's conditionSince), beside when the alert was raised. */
+function sinceText(a, e) {
+  if (typeof e.conditionSince !== 'string') return null;
+  const basis = typeof e.conditionSinceBasis === 'string' ? `; ${timesInText(e.conditionSinceBasis)}` : '';
+  return `${when(e.conditionSince)}, raised ${when(e.raisedAt ?? a.raisedAt)}${basis}`;
+}
+
 /** The evidence of one alert (GET /api/alerts item), drift or instrument. */
 export function evidenceOf(a) {
   const e = a.evidence ?? {};
@@ -83,6 +90,7 @@ export function evidenceOf(a) {
           ? `${signed(e.driftPts, 2)} ± ${num(u, 2)} points of efficiency (expanded uncertainty, k = ${e.k ?? 2}, about 95 %)`
           : null,
       ],
+      ['Condition since', sinceText(a, e)],
       [
         'Band',
         typeof b.alarmPts === 'number'
@@ -108,6 +116,7 @@ export function evidenceOf(a) {
   }
   return rows([
     ['Fault', Array.isArray(e.faults) && e.faults.length > 0 ? e.faults.map(faultText).join('; ') : null],
+    ['Condition since', sinceText(a, e)],
     ['On', typeof e.role === 'string' ? `${roleText(e.role)}${e.tagId ? ` (tag ${e.tagId})` : ''}` : null],
     ['Seen over', windowText],
     [

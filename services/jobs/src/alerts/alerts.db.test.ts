@@ -4,12 +4,14 @@ import { createTestDatabase, type TestDatabase } from '../../../../test/support/
 import { runAnalysisOnce } from '../analysis/job.js';
 import { runAlertsOnce } from './job.js';
 import { rng, type SeedResult, seedBaseline, seedResults, seedTestMachine, seedTestSite } from './seed.js';
+import { isoSeconds } from './times.js';
 
 let db: TestDatabase;
 let siteId: number;
 const T0 = Date.UTC(2026, 1, 2); // invented data
 const MIN = 60_000;
 const H = 3_600_000;
+const DAY = 86_400_000;
 const BASE = 0.8;
 const BANDS = { warning: 2, alarm: 4, onDelayS: 900, offDelayS: 900, deadband: 0.5 };
 
@@ -88,7 +90,8 @@ describe('drift alerts', () => {
       evidence: Record<string, unknown>;
       level: string;
       category: string;
-    }>(`SELECT message, evidence, level, category FROM alerts WHERE machine_id = $1`, [id]);
+      condition_since: Date;
+    }>(`SELECT message, evidence, level, category, condition_since FROM alerts WHERE machine_id = $1`, [id]);
     expect(a.rows).toHaveLength(1);
     const row = a.rows[0]!;
     expect(row.category).toBe('drift');
@@ -100,8 +103,15 @@ describe('drift alerts', () => {
     // The judged hour holds 52 points of the step: mean -3.3 x 52/60 = -2.86 points (common practice, no source).
     expect(row.evidence.driftPts as number).toBeCloseTo(-2.86, 6);
     expect(row.evidence.link).toBe(
-      `/machines/step-1?from=${encodeURIComponent(new Date(S - 8 * MIN).toISOString())}&to=${encodeURIComponent(new Date(S + 52 * MIN).toISOString())}`,
+      `/machines/step-1?from=${encodeURIComponent(isoSeconds(S - 8 * MIN))}&to=${encodeURIComponent(isoSeconds(S + 52 * MIN))}`,
     );
+    // Raised live: the condition dates from the start of the on-delay, the first hourly mean
+    // beyond the warning level (S + 37 min, derivation above); no day before it holds data.
+    expect(row.condition_since.getTime()).toBe(S + 37 * MIN);
+    expect(row.evidence.conditionSince).toBe('2026-02-02T02:37:00Z');
+    expect(row.evidence.raisedAt).toBe('2026-02-02T02:52:00Z');
+    expect(row.evidence.conditionSinceBasis).toContain('on-delay');
+    expect(row.message).toContain('condition since 2026-02-02T02:37:00Z, raised 2026-02-02T02:52:00Z');
     expect(row.evidence.coverage).toBe(1);
     const audit = await db.pool.query<{ n: number }>(
       `SELECT count(*)::int AS n FROM audit_log WHERE actor = 'system' AND action = 'alert.transition' AND entity_id = $1`,
@@ -195,6 +205,58 @@ describe('drift alerts', () => {
     ]);
   });
 
+  it('an alarm raised on history dates its condition from the first day of the unbroken crossing', async () => {
+    // Drift -5 points from D + 3 h on (invented), results T0 .. T0 + 10 d, the alert job run once at
+    // the end: it judges only the last 24 h (its default catch-up), finds the alarm already held
+    // and raises it then. Day means: D holds 21 h at -5, -4.375, beyond the alarm level -4; the
+    // day before is at 0 (arithmetic on the invented series).
+    const D = T0 + 3 * DAY;
+    const id = await machineWith('since-1');
+    await seedResults(
+      db.pool,
+      id,
+      series(T0, T0 + 10 * DAY, (t) => (t >= D + 3 * H ? -5 : 0)),
+    );
+    await runBoth(id, T0 + 10 * DAY + MIN);
+    const a = await db.pool.query<{
+      level: string;
+      raised_at: Date;
+      condition_since: Date;
+      message: string;
+      evidence: Record<string, unknown>;
+    }>(`SELECT level, raised_at, condition_since, message, evidence FROM alerts WHERE machine_id = $1`, [id]);
+    expect(a.rows).toHaveLength(1);
+    const row = a.rows[0]!;
+    expect(row.level).toBe('alarm');
+    // The band starts 24 h before the end; its first hour is beyond the alarm level at once, so
+    // the 15 min on-delay ends at T0 + 9 d + 16 min (first window end T0 + 9 d + 1 min).
+    const raised = T0 + 9 * DAY + 16 * MIN;
+    expect(row.raised_at.getTime()).toBe(raised);
+    expect(row.condition_since.getTime()).toBe(D);
+    expect(row.evidence.conditionSince).toBe('2026-02-05T00:00:00Z');
+    expect(row.evidence.conditionSinceBasis).toContain('daily mean');
+    expect(row.message).toContain(`condition since 2026-02-05T00:00:00Z, raised ${isoSeconds(raised)}`);
+  });
+
+  it('a crossing that went back inside the band and out again counts from the last crossing', async () => {
+    // Beyond on days D and D + 1, back at 0 on D + 2, beyond again from D + 3 d + 3 h; day D + 5
+    // holds no results (a gap: neither extends nor breaks the run). Invented.
+    const D = T0 + 2 * DAY;
+    const drift = (t: number): number =>
+      (t >= D + 3 * H && t < D + 2 * DAY) || t >= D + 3 * DAY + 3 * H ? -5 : 0;
+    const rows = series(T0, T0 + 10 * DAY, drift).filter((p) => p.t < D + 5 * DAY || p.t >= D + 6 * DAY);
+    const id = await machineWith('since-2');
+    await seedResults(db.pool, id, rows);
+    await runBoth(id, T0 + 10 * DAY + MIN);
+    const a = await db.pool.query<{ condition_since: Date; evidence: Record<string, unknown> }>(
+      `SELECT condition_since, evidence FROM alerts WHERE machine_id = $1`,
+      [id],
+    );
+    expect(a.rows).toHaveLength(1);
+    expect(a.rows[0]?.condition_since.getTime()).toBe(D + 3 * DAY);
+    expect(a.rows[0]?.evidence.conditionSince).toBe(isoSeconds(D + 3 * DAY));
+  });
+
   it('an out-of-service machine raises nothing', async () => {
     const id = await machineWith('oos', { outOfService: true });
     await seedResults(db.pool, id, series(T0, T0 + 8 * H, stepDrift));
@@ -231,11 +293,13 @@ describe('instrument alerts', () => {
       tag_id: number | null;
       state: string;
       raised_at: Date;
+      condition_since: Date;
       message: string;
       evidence: Record<string, unknown>;
-    }>(`SELECT category, tag_id, state, raised_at, message, evidence FROM alerts WHERE machine_id = $1`, [
-      m.id,
-    ]);
+    }>(
+      `SELECT category, tag_id, state, raised_at, condition_since, message, evidence FROM alerts WHERE machine_id = $1`,
+      [m.id],
+    );
     expect(alerts.rows).toHaveLength(1);
     const a = alerts.rows[0]!;
     expect(a.category).toBe('instrument');
@@ -243,6 +307,9 @@ describe('instrument alerts', () => {
     // On-delay 15 min from the first flagged point; off-delay 15 min from the first clean one.
     expect(a.raised_at.getTime()).toBe(F0 + 15 * MIN);
     expect(a.state).toBe('returned_unacknowledged');
+    // The condition dates from the first flagged result.
+    expect(a.condition_since.getTime()).toBe(F0);
+    expect(a.message).toContain(`condition since ${isoSeconds(F0)}, raised ${isoSeconds(F0 + 15 * MIN)}`);
     expect(a.message).toContain(CAUTION);
     expect(a.evidence.caution).toBe(CAUTION);
     const ev = await events(m.id);
@@ -250,5 +317,60 @@ describe('instrument alerts', () => {
       ['active_unacknowledged', F0 + 15 * MIN],
       ['returned_unacknowledged', F1 + 15 * MIN],
     ]);
+  });
+
+  it('a fault held before the run dates from its instrument finding, or from the first result of its flagged run', async () => {
+    const m = await seedTestMachine(db.pool, siteId, 'since-instr', {
+      bands: BANDS,
+      roles: ['inletPressure', 'outletTemperature'],
+    });
+    await seedBaseline(db.pool, m.id, [BASE], T0 - 10 * 86_400_000, T0 - 86_400_000);
+    // Invented: the inlet pressure reads one atmosphere high from G on (a gauge/absolute finding
+    // as services/jobs/src/instrument writes it, its results flagged and not valid); the outlet
+    // thermometer sticks from U on. Both still hold at the end; the alert job runs once, judging
+    // the last 24 h.
+    const G = T0 + DAY + 7 * H + 13 * MIN;
+    const U = T0 + 2 * DAY + 5 * H;
+    const END = T0 + 4 * DAY;
+    const rows = series(T0, END, () => 0).map((p) => {
+      const flags = [
+        ...(p.t >= G ? ['fault:gauge-absolute:inletPressure'] : []),
+        ...(p.t >= U ? ['fault:stuck:outletTemperature'] : []),
+      ];
+      return flags.length === 0 ? p : { ...p, valid: false, flags };
+    });
+    await seedResults(db.pool, m.id, rows);
+    const f = await db.pool.query<{ id: number }>(
+      `INSERT INTO instrument_findings (machine_id, tag_id, role, kind, at, status, direction, likely_cause, shift_pa,
+                                        shift_ambients, level_before_pa, level_after_pa, ambient_pa, cross_check)
+       VALUES ($1, $2, 'inletPressure', 'gauge-absolute', $3, 'standing', 'reads-high',
+               'absolute transmitter on a gauge tag', 101325, 1, 101325, 202650, 101325, 'mix-up') RETURNING id::int`,
+      [m.id, m.tags.inletPressure, new Date(G)],
+    );
+    await runBoth(m.id, END + MIN);
+    const alerts = await db.pool.query<{
+      tag_id: number;
+      raised_at: Date;
+      condition_since: Date;
+      message: string;
+      evidence: Record<string, unknown>;
+    }>(
+      `SELECT tag_id, raised_at, condition_since, message, evidence FROM alerts
+        WHERE machine_id = $1 AND category = 'instrument' ORDER BY tag_id`,
+      [m.id],
+    );
+    expect(alerts.rows.map((a) => a.tag_id)).toEqual([m.tags.inletPressure, m.tags.outletTemperature]);
+    const [inlet, outlet] = alerts.rows;
+    // Both raised 15 min (on-delay) into the judged 24 h.
+    const raised = END - DAY + 15 * MIN;
+    expect(inlet?.raised_at.getTime()).toBe(raised);
+    expect(outlet?.raised_at.getTime()).toBe(raised);
+    expect(inlet?.condition_since.getTime()).toBe(G);
+    expect(inlet?.evidence.conditionSince).toBe('2026-02-03T07:13:00Z');
+    expect(inlet?.evidence.conditionSinceBasis).toContain(`instrument finding ${f.rows[0]?.id}`);
+    expect(inlet?.message).toContain(`condition since 2026-02-03T07:13:00Z, raised ${isoSeconds(raised)}`);
+    expect(outlet?.condition_since.getTime()).toBe(U);
+    expect(outlet?.evidence.conditionSince).toBe(isoSeconds(U));
+    expect(outlet?.evidence.conditionSinceBasis).toContain('unbroken run');
   });
 });

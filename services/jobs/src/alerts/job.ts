@@ -11,6 +11,9 @@
  *    kept apart (category 'instrument', tag_id set). A faulty point is not valid, so it never feeds
  *    the drift windows: a stuck transmitter raises an instrument alert and no drift alert.
  *  - a tick of the clock for every open alert (shelve expiry on time).
+ * Each activation says since when its condition has held (./condition-since.ts) beside when it was
+ * raised: an alert raised on history, on a first start or after a stop, meets a condition that
+ * began long before the span the band judges.
  * Out-of-service machines raise nothing: their band states are reset and skipped forward.
  * Band states (delays pending) live in alert_band_state; the alert states are read from the
  * alerts table each tick, so operators' acknowledgements and shelves (API) are respected.
@@ -27,6 +30,12 @@ import {
 import type pg from 'pg';
 import { readActiveBaseline } from '../analysis/baseline.js';
 import {
+  bandOnsetMs,
+  type ConditionSince,
+  driftConditionSince,
+  instrumentConditionSince,
+} from './condition-since.js';
+import {
   bandsFor,
   driftBandConfig,
   EXPANDED_K,
@@ -34,7 +43,14 @@ import {
   faultsByKey,
   type MachineBands,
 } from './config.js';
-import { type AlertTarget, applyAlertEvent, lockOpenAlerts, type OpenAlertRow } from './store.js';
+import {
+  type AlertTarget,
+  applyAlertEvent,
+  type ConditionContext,
+  lockOpenAlerts,
+  type OpenAlertRow,
+} from './store.js';
+import { isoSeconds } from './times.js';
 
 export interface AlertsOptions {
   /** Tick time [ms] (the clock for shelve expiry). */
@@ -46,6 +62,8 @@ export interface AlertsOptions {
   readonly driftWindowMs?: number;
   /** How far back a machine seen for the first time (or after a long stop of the jobs) is judged [ms]; default 24 h. */
   readonly maxCatchUpMs?: number;
+  /** Fewest usable results for a day's mean drift to count in the condition-since search; default 60 (as the analysis job's rate). */
+  readonly minPointsPerDay?: number;
 }
 
 export interface AlertsRunStats {
@@ -77,7 +95,23 @@ interface KeyState {
   dirty: boolean;
 }
 
-const iso = (ms: number): string => new Date(ms).toISOString();
+const iso = isoSeconds;
+
+/** The evidence fields and the words of the message that date a condition. */
+function conditionEvidence(
+  since: ConditionSince,
+  raisedMs: number,
+): {
+  ms: number;
+  fields: { conditionSince: string; conditionSinceBasis: string; raisedAt: string };
+  text: string;
+} {
+  return {
+    ms: since.ms,
+    fields: { conditionSince: iso(since.ms), conditionSinceBasis: since.basis, raisedAt: iso(raisedMs) },
+    text: `condition since ${iso(since.ms)}, raised ${iso(raisedMs)}`,
+  };
+}
 
 export function trendLink(slug: string, fromMs: number, toMs: number): string {
   return `/machines/${encodeURIComponent(slug)}?from=${encodeURIComponent(iso(fromMs))}&to=${encodeURIComponent(iso(toMs))}`;
@@ -175,12 +209,7 @@ class MachineAlerts {
     };
   }
 
-  async apply(
-    key: string,
-    event: AlertEvent,
-    at: number,
-    ctx?: { evidence: Record<string, unknown>; message: string },
-  ): Promise<void> {
+  async apply(key: string, event: AlertEvent, at: number, ctx?: ConditionContext): Promise<void> {
     const r = await applyAlertEvent(this.client, this.target(key), this.open.get(key), event, at, ctx);
     this.transitions += r.transitions;
     if (r.open === undefined) this.open.delete(key);
@@ -269,7 +298,8 @@ async function alertsForMachine(
             const w = rollingWindows(input, end, o.stepMs, [o.driftWindowMs])[0];
             if (w === undefined) continue;
             const sample = { t: end, value: w.efficiency, u: w.uEfficiency, coverage: w.coverage };
-            const step = stepBand(ds.band, sample, config);
+            const before = ds.band;
+            const step = stepBand(before, sample, config);
             ma.samples++;
             ds.band = step.state;
             ds.evaluatedTo = end;
@@ -279,6 +309,19 @@ async function alertsForMachine(
             if (event === undefined) continue;
             const from = end - o.driftWindowMs;
             const level = step.to === 'alarm' ? -bands.alarm : -bands.warning;
+            const since =
+              step.to === 'normal'
+                ? undefined
+                : conditionEvidence(
+                    await driftConditionSince(
+                      client,
+                      m.id,
+                      level,
+                      bandOnsetMs(before, step.to, end),
+                      o.minPointsPerDay,
+                    ),
+                    end,
+                  );
             const evidence = {
               driftPts: w.efficiency,
               uDriftPts: w.uEfficiency,
@@ -301,12 +344,13 @@ async function alertsForMachine(
                 source: bands.source,
               },
               reason: step.reason,
+              ...since?.fields,
             };
             const message =
-              step.to === 'normal'
+              since === undefined
                 ? `${m.name}: efficiency drift back inside the band: ${w.efficiency.toFixed(2)} points over the hour to ${iso(end)}.`
-                : `${m.name}: efficiency drift ${w.efficiency.toFixed(2)} ± ${(EXPANDED_K * w.uEfficiency).toFixed(2)} points (k = ${EXPANDED_K}) over the hour to ${iso(end)}, beyond the ${step.to} level of ${level} points.`;
-            await ma.apply('drift', event, end, { evidence, message });
+                : `${m.name}: efficiency drift ${w.efficiency.toFixed(2)} ± ${(EXPANDED_K * w.uEfficiency).toFixed(2)} points (k = ${EXPANDED_K}) over the hour to ${iso(end)}, beyond the ${step.to} level of ${level} points; ${since.text}.`;
+            await ma.apply('drift', event, end, { evidence, message, conditionSinceMs: since?.ms });
           }
         }
       } else {
@@ -331,7 +375,8 @@ async function alertsForMachine(
           if (!key.startsWith('instrument:')) continue;
           if (s.evaluatedTo !== null && r.t <= s.evaluatedTo) continue;
           const names = faults.get(key);
-          const step = stepBand(s.band, { t: r.t, value: names === undefined ? 0 : 1 }, fconfig);
+          const before = s.band;
+          const step = stepBand(before, { t: r.t, value: names === undefined ? 0 : 1 }, fconfig);
           s.band = step.state;
           s.evaluatedTo = r.t;
           s.last = { value: names === undefined ? 0 : 1, u: 0, coverage: 1 };
@@ -339,6 +384,13 @@ async function alertsForMachine(
           if (!step.changed) continue;
           const role = key.slice('instrument:'.length);
           const from = r.t - (step.to === 'normal' ? bands.offDelayS : bands.onDelayS) * 1000;
+          const since =
+            step.to === 'normal'
+              ? undefined
+              : conditionEvidence(
+                  await instrumentConditionSince(client, m.id, key, bandOnsetMs(before, step.to, r.t), r.t),
+                  r.t,
+                );
           const evidence = {
             faults: names ?? [],
             role,
@@ -348,6 +400,7 @@ async function alertsForMachine(
             onDelayS: bands.onDelayS,
             offDelayS: bands.offDelayS,
             reason: step.reason,
+            ...since?.fields,
           };
           const what = role === 'machine' ? 'the machine' : `tag role ${role}`;
           const event: AlertEvent =
@@ -359,10 +412,10 @@ async function alertsForMachine(
                   reason: `instrument fault held for the on-delay: ${step.reason}`,
                 };
           const message =
-            step.to === 'normal'
+            since === undefined
               ? `${m.name}: instrument fault on ${what} has cleared.`
-              : `${m.name}: instrument fault on ${what} (${(names ?? []).join(', ')}) since ${iso(from)}; figures resting on it are excluded, this is not an efficiency alert.`;
-          await ma.apply(key, event, r.t, { evidence, message });
+              : `${m.name}: instrument fault on ${what} (${(names ?? []).join(', ')}); ${since.text}; figures resting on it are excluded, this is not an efficiency alert.`;
+          await ma.apply(key, event, r.t, { evidence, message, conditionSinceMs: since?.ms });
         }
       }
     }
@@ -390,6 +443,7 @@ export async function runAlertsOnce(pool: pg.Pool, options: AlertsOptions): Prom
     stepMs: options.stepMs ?? 60_000,
     driftWindowMs: options.driftWindowMs ?? 3_600_000,
     maxCatchUpMs: options.maxCatchUpMs ?? 86_400_000,
+    minPointsPerDay: options.minPointsPerDay ?? 60,
   };
   const res = await pool.query<MachineDb>(
     `SELECT id, slug, name, kind, out_of_service FROM machines

@@ -17,6 +17,7 @@ import {
 import { appendAudit } from '@isentrope/store';
 import type { Queryable } from '../queries/machines.js';
 import type { AlertSeverityColumn } from './config.js';
+import { isoSeconds } from './times.js';
 
 export type AlertDbState =
   | 'normal'
@@ -104,6 +105,11 @@ export interface ConditionContext {
   readonly evidence: Record<string, unknown>;
   /** Message of an activation; the CAUTION text is appended. */
   readonly message: string;
+  /**
+   * Since when the condition of an activation has held [ms] (./condition-since.ts), stored in
+   * alerts.condition_since; omitted: the activation's own time.
+   */
+  readonly conditionSinceMs?: number | undefined;
 }
 
 export interface AppliedStep {
@@ -146,8 +152,9 @@ export async function applyAlertEvent(
     if (s.status === 'normal') return { alertId: undefined, transitions: 0, open: undefined };
     const level = event.type === 'activate' ? event.severity : 'warning';
     const ins = await db.query<{ id: number }>(
-      `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, evidence, raised_at, updated_at)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $9) RETURNING id::int`,
+      `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, evidence, raised_at, updated_at,
+                           condition_since)
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $9, $10) RETURNING id::int`,
       [
         target.machineId,
         target.category,
@@ -158,6 +165,7 @@ export async function applyAlertEvent(
         withCaution(ctx?.message ?? `${target.category} condition active`),
         JSON.stringify(evidence ?? { caution: CAUTION }),
         when,
+        new Date(ctx?.conditionSinceMs ?? at),
       ],
     );
     id = (ins.rows[0] as { id: number }).id;
@@ -180,12 +188,13 @@ export async function applyAlertEvent(
     const newEvidence = activate
       ? (evidence ?? open.evidence)
       : clear
-        ? { ...open.evidence, returnedAt: when.toISOString(), returnedWith: ctx?.evidence ?? null }
+        ? { ...open.evidence, returnedAt: isoSeconds(at), returnedWith: ctx?.evidence ?? null }
         : open.evidence;
     await db.query(
       `UPDATE alerts SET state = $2, level = $3, evidence = $4, cleared_at = $5,
               message = CASE WHEN $6::text IS NULL THEN message ELSE $6 END,
-              shelved_until = $7, shelved_by = $8, updated_at = $9
+              shelved_until = $7, shelved_by = $8, updated_at = $9,
+              condition_since = CASE WHEN $10::timestamptz IS NULL THEN condition_since ELSE $10 END
         WHERE id = $1`,
       [
         open.id,
@@ -197,6 +206,7 @@ export async function applyAlertEvent(
         s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
         s.shelvedBy ?? null,
         when,
+        activate ? new Date(ctx?.conditionSinceMs ?? at) : null,
       ],
     );
     row = {
