@@ -43,6 +43,22 @@ export const API_ERRORS = {
     title: 'Invalid token',
     template: 'The API token or session is unknown, revoked or expired.',
   },
+  API_BAD_CURRENT_PASSWORD: {
+    status: 403,
+    title: 'Current password wrong',
+    template:
+      'The current password is wrong; type the password you sign in with. Lost it? An administrator can set a new one.',
+  },
+  API_PASSWORD_TOO_SHORT: {
+    status: 400,
+    title: 'New password too short',
+    template: 'The new password is too short (length {length}); choose one of at least {min} characters.',
+  },
+  API_PASSWORD_UNCHANGED: {
+    status: 400,
+    title: 'New password is the current one',
+    template: 'The new password is the same as the current one; choose a different password.',
+  },
   API_FORBIDDEN: {
     status: 403,
     title: 'Not allowed',

@@ -78,6 +78,9 @@ export async function frame() {
     const me = await api('/api/auth/me');
     who.textContent = me.kind === 'anonymous' ? `local access (${me.role})` : `${me.username} (${me.role})`;
     if (me.kind === 'user') {
+      const account = el('a', { href: '/account.html', text: 'Account', style: 'margin-left:.6rem' });
+      if (page === 'account') account.setAttribute('aria-current', 'page');
+      who.append(account);
       const out = el('button', { text: 'Sign out', style: 'margin-left:.6rem' });
       out.addEventListener('click', async () => {
         await api('/api/auth/logout', { method: 'POST', body: {} });

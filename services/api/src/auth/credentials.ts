@@ -61,6 +61,12 @@ export async function principalForSecret(
   };
 }
 
+/**
+ * Rate limit of every route that checks a password (sign-in, password change), per client:
+ * a stricter limit on password guessing (common practice, no source).
+ */
+export const PASSWORD_CHECK_RATE_LIMIT = { max: 20, timeWindow: 60_000 } as const;
+
 /** Check a username and password; returns the user or throws API_BAD_CREDENTIALS (same error for either mistake). */
 export async function checkLogin(
   pool: pg.Pool,

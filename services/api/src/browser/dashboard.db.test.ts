@@ -349,6 +349,59 @@ describe('dashboard in Chromium', () => {
     await page.screenshot({ path: `${ARTIFACTS}exports.png`, fullPage: true });
   });
 
+  it('changes the password on the Account page reached from the header, saying what was wrong each time', async () => {
+    const before = pageErrors.length;
+    await page.goto(`${base}/quarantine.html`);
+    await page.waitForSelector('#quarantine[data-loaded="true"]');
+    await page.click('#who a[href="/account.html"]');
+    await page.waitForSelector('#account[data-loaded="true"]');
+    expect(await page.locator('#caution').textContent()).toBe(CAUTION);
+    expect(await page.locator('#account-who').textContent()).toBe('Signed in as eng, role engineer.');
+    const submit = async (current: string, next: string, repeat: string, state: string) => {
+      await page.fill('#current-password', current);
+      await page.fill('#new-password', next);
+      await page.fill('#repeat-password', repeat);
+      await page.click('#password-form button[type=submit]');
+      await page.waitForSelector(`#password-form[data-state="${state}"]`);
+    };
+    const error = page.locator('#password-error');
+    await submit('engineer-password', 'a-new-password-1', 'a-new-password-2', 'refused');
+    expect(await error.textContent()).toBe(
+      'The two new passwords differ; type the same new password in both fields.',
+    );
+    expect(await page.getAttribute('#repeat-password', 'aria-invalid')).toBe('true');
+    await submit('not-the-password', 'a-new-password-1', 'a-new-password-1', 'refused');
+    expect(await error.textContent()).toMatch(
+      /^The current password is wrong; type the password you sign in with/,
+    );
+    expect(await page.getAttribute('#current-password', 'aria-invalid')).toBe('true');
+    await submit('engineer-password', 'too-short', 'too-short', 'refused');
+    expect(await error.textContent()).toBe(
+      'The new password is too short (length 9); choose one of at least 12 characters.',
+    );
+    await submit('engineer-password', 'engineer-password', 'engineer-password', 'refused');
+    expect(await error.textContent()).toContain('the same as the current one');
+    await submit('engineer-password', 'a-new-password-1', 'a-new-password-1', 'changed');
+    expect(await error.textContent()).toBe('');
+    expect(await page.locator('#password-done').textContent()).toBe(
+      'Password changed. No other browser session was open; this one stays signed in.',
+    );
+    expect(await page.inputValue('#current-password')).toBe('');
+    // This session stays signed in; the old password no longer signs in, the new one does.
+    await page.reload();
+    await page.waitForSelector('#account[data-loaded="true"]');
+    expect(await page.locator('#account-who').textContent()).toBe('Signed in as eng, role engineer.');
+    const login = (password: string) =>
+      app.inject({ method: 'POST', url: '/api/auth/login', payload: { username: 'eng', password } });
+    expect((await login('engineer-password')).statusCode).toBe(401);
+    expect((await login('a-new-password-1')).statusCode).toBe(200);
+    // Chromium logs each refusal (400, 403) as a failed load: expected here, anything else is not.
+    const logged = pageErrors.splice(before);
+    expect(logged.filter((m) => !/status of 40[03]/.test(m))).toEqual([]);
+    expect(logged.length).toBeGreaterThanOrEqual(3);
+    await page.screenshot({ path: `${ARTIFACTS}account.png`, fullPage: true });
+  });
+
   it('fits a phone: no page is wider than its 390 px screen', async () => {
     const phone = await browser.newContext({
       viewport: { width: 390, height: 844 },
@@ -362,6 +415,7 @@ describe('dashboard in Chromium', () => {
         ['machine', `/machine.html?id=${turbineId}`, '#hs-chart[data-loaded="true"]'],
         ['alerts', '/alerts.html', '#alerts[data-loaded="true"]'],
         ['quarantine', '/quarantine.html', '#quarantine[data-loaded="true"]'],
+        ['account', '/account.html', '#account[data-loaded="true"]'],
       ] as const) {
         await small.goto(`${base}${path}`);
         await small.waitForSelector(ready);

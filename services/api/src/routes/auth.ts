@@ -7,10 +7,17 @@ import {
   createSession,
   endSession,
   newSecret,
+  PASSWORD_CHECK_RATE_LIMIT,
   SESSION_TTL_MS,
   sha256Hex,
   TOKEN_PREFIX,
 } from '../auth/credentials.js';
+import {
+  checkCurrentPassword,
+  checkNewPassword,
+  MIN_PASSWORD_LENGTH,
+  storeNewPassword,
+} from '../auth/password-change.js';
 import { hashPassword } from '../auth/passwords.js';
 import { SESSION_COOKIE } from '../auth/plugin.js';
 import { hasRole, ROLES } from '../auth/roles.js';
@@ -44,12 +51,22 @@ const userSchema = z.object({
   createdAt: z.string(),
 });
 
+const newPasswordField = z
+  .string()
+  .max(1000)
+  .describe(
+    `At least ${MIN_PASSWORD_LENGTH} characters; a shorter one is refused with API_PASSWORD_TOO_SHORT`,
+  );
+
+const passwordChangedSchema = z.object({
+  sessionsEnded: z.number().int().describe('Browser sessions of the user that were ended (signed out)'),
+});
+
 export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
   app.post(
     '/auth/login',
     {
-      // Stricter limit on password guessing (common practice, no source).
-      config: { role: 'public', rateLimit: { max: 20, timeWindow: 60_000 } },
+      config: { role: 'public', rateLimit: PASSWORD_CHECK_RATE_LIMIT },
       schema: {
         tags: ['auth'],
         summary: 'Sign in; sets an httpOnly SameSite=Strict session cookie',
@@ -114,6 +131,44 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       const p = request.principal;
       if (p === undefined) throw new ApiError('API_UNAUTHENTICATED');
       return { kind: p.kind, username: p.username, role: p.role };
+    },
+  );
+
+  app.post(
+    '/auth/password',
+    {
+      // Any signed-in user (session or token of a user), for their own password.
+      config: { role: 'viewer', rateLimit: PASSWORD_CHECK_RATE_LIMIT },
+      schema: {
+        tags: ['auth'],
+        summary:
+          "Change the caller's own password; ends the user's other sessions (the caller's session stays signed in)",
+        body: z.object({
+          currentPassword: z.string().min(1).max(1000),
+          newPassword: newPasswordField,
+        }),
+        response: {
+          200: passwordChangedSchema,
+          ...errorResponses,
+          429: problemSchema,
+        },
+      },
+    },
+    async (request) => {
+      const p = request.principal;
+      if (p === undefined || p.kind === 'anonymous' || p.userId === undefined)
+        throw new ApiError('API_UNAUTHENTICATED');
+      const { currentPassword, newPassword } = request.body;
+      checkNewPassword(newPassword, currentPassword);
+      const expectedHash = await checkCurrentPassword(ctx.pool, p.userId, currentPassword);
+      return storeNewPassword(ctx.pool, {
+        userId: p.userId,
+        newPassword,
+        expectedHash,
+        keepSessionId: p.kind === 'user' ? p.credentialId : undefined,
+        actor: p,
+        action: 'user.password.change',
+      });
     },
   );
 
@@ -348,6 +403,29 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
         role: b.role,
         disabled: false,
         createdAt: user.created_at.toISOString(),
+      });
+    },
+  );
+
+  app.put(
+    '/users/:id/password',
+    {
+      config: { role: 'admin' },
+      schema: {
+        tags: ['auth'],
+        summary: "Set another user's password (an administrator's reset); ends all of that user's sessions",
+        params: idParam,
+        body: z.object({ newPassword: newPasswordField }),
+        response: { 200: passwordChangedSchema, ...errorResponses },
+      },
+    },
+    async (request) => {
+      checkNewPassword(request.body.newPassword);
+      return storeNewPassword(ctx.pool, {
+        userId: request.params.id,
+        newPassword: request.body.newPassword,
+        actor: request.principal!,
+        action: 'user.password.reset',
       });
     },
   );
