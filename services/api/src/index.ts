@@ -1,4 +1,5 @@
 export * from './app.js';
+export { checkNewPassword, MIN_PASSWORD_LENGTH, storeNewPassword } from './auth/password-change.js';
 export { API_ERRORS, ApiError, type ApiErrorCode, type Problem, toProblem } from './errors.js';
 export { createMetricsRegistry, type GaugeCollector, type Labels, MetricsRegistry } from './metrics.js';
 export { type GatherMonthlyOptions, gatherMonthlyInput } from './queries/monthly.js';

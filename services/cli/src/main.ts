@@ -14,6 +14,8 @@ Commands:
   ingest FILE --source ID
                    ingest one CSV file through a configured CSV source (quarantine report)
   calc [FILE]      compute one machine case from a JSON file or stdin (--json for JSON output)
+  user password USERNAME
+                   set a user's password from the first line of stdin (ends their sessions)
 
 Environment: DATABASE_URL (unset: embedded PostgreSQL under ISENTROPE_DATA_DIR), HOST, PORT,
 LOG_LEVEL, LOG_FORMAT (json|pretty). See README.md.
@@ -65,6 +67,20 @@ async function main(argv: readonly string[]): Promise<number> {
       case 'plant': {
         const { plantCommand } = await import('./commands/plant.js');
         return await plantCommand(rest, config, logger);
+      }
+      case 'user': {
+        const { configuredDatabase, userCommand } = await import('./commands/user.js');
+        return await userCommand(
+          rest,
+          {
+            stdin: process.stdin,
+            stdout: process.stdout,
+            stderr,
+            prompt: process.stdin.isTTY === true,
+            actor: `cli:${process.env.USER ?? 'unknown'}`,
+          },
+          configuredDatabase(config),
+        );
       }
       default:
         stderr.write(`isentrope: unknown command "${command}"\n\n${USAGE}`);
