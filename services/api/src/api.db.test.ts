@@ -541,6 +541,14 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
       payload: { username: 'planner', password: 'long-enough-pw', role: 'viewer' },
     });
     expect(dup.json<{ code: string }>().code).toBe('API_CONFLICT');
+    // The same least length as a password change (12 characters).
+    const short = await app.inject({
+      method: 'POST',
+      url: '/api/users',
+      headers: auth('admin'),
+      payload: { username: 'short-pw', password: 'eleven-char', role: 'viewer' },
+    });
+    expect(short.statusCode).toBe(400);
     expect(
       (
         await app.inject({

@@ -368,7 +368,7 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
         body: z.object({
           username: z.string().regex(/^[a-z0-9._-]{2,64}$/),
           displayName: z.string().max(200).optional(),
-          password: z.string().min(10).max(1000),
+          password: z.string().min(MIN_PASSWORD_LENGTH).max(1000),
           role: z.enum(ROLES),
         }),
         response: { 201: userSchema, ...errorResponses, 409: problemSchema },
