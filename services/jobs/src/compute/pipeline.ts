@@ -790,20 +790,16 @@ function evaluatePoint(
       : machine.operatingPoint === 'load'
         ? (r.shaftPowerUsed ?? power)
         : r.massFlow;
-  const withU = (v: number | undefined, k: number): number | null =>
-    v === undefined || !Number.isFinite(v) ? null : fin(u[k]);
   // The figure trended as "efficiency". Pumps and fans with a measured power: the power-based
   // efficiency (hydraulic power / shaft power; fan air power with ISO 5801 k_p / shaft power).
   // Their temperature rise is about 1 K, which plant thermometers cannot resolve well enough for
   // the thermodynamic method (ISO 5198 asks for far finer thermometry), so its uncertainty would
   // hide any real loss. Turbines and compressors, or no power tag: the isentropic efficiency.
   const kind = machine.row.kind;
-  const [primary, primaryU] =
-    kind === 'pump' && r.hydraulicEfficiency !== undefined
-      ? [r.hydraulicEfficiency, OUT_ETA_HYDRAULIC]
-      : kind === 'fan' && r.fanEfficiency !== undefined
-        ? [r.fanEfficiency, OUT_ETA_FAN]
-        : [r.isentropicEfficiency, OUT_ETA];
+  const hydraulic = kind === 'pump' && r.hydraulicEfficiency !== undefined;
+  const fanEta = !hydraulic && kind === 'fan' && r.fanEfficiency !== undefined;
+  const primary = hydraulic ? r.hydraulicEfficiency : fanEta ? r.fanEfficiency : r.isentropicEfficiency;
+  const primaryU = hydraulic ? OUT_ETA_HYDRAULIC : fanEta ? OUT_ETA_FAN : OUT_ETA;
   // Filled into the point's row object (one object per point).
   base.hIn = r.inlet.h;
   base.sIn = r.inlet.s;
@@ -814,15 +810,15 @@ function evaluatePoint(
   base.hOutS = r.outletIsentropic.h;
   base.massFlow = fin(r.massFlow);
   base.efficiency = fin(primary);
-  base.uEfficiency = withU(primary, primaryU);
+  base.uEfficiency = uOrNull(u, primary, primaryU);
   base.polytropicEfficiency = fin(r.polytropicEfficiency);
-  base.uPolytropicEfficiency = withU(r.polytropicEfficiency, OUT_ETA_POLY);
+  base.uPolytropicEfficiency = uOrNull(u, r.polytropicEfficiency, OUT_ETA_POLY);
   base.specificWork = fin(r.specificWork);
-  base.uSpecificWork = withU(r.specificWork, OUT_WORK);
+  base.uSpecificWork = uOrNull(u, r.specificWork, OUT_WORK);
   base.power = fin(power);
-  base.uPower = withU(power, OUT_POWER);
+  base.uPower = uOrNull(u, power, OUT_POWER);
   base.entropyGeneration = fin(r.entropyGeneration);
-  base.uEntropyGeneration = withU(r.entropyGeneration, OUT_SGEN);
+  base.uEntropyGeneration = uOrNull(u, r.entropyGeneration, OUT_SGEN);
   base.operatingPoint = fin(op);
   const row = base;
   let noEfficiency = false;
@@ -873,3 +869,8 @@ function medianOfFinite(x: ArrayLike<number>): number {
 }
 
 const NO_FLAGS: readonly string[] = [];
+
+/** A figure's standard uncertainty from slot k of u, or null when the figure itself is absent. */
+function uOrNull(u: Float64Array, v: number | undefined, k: number): number | null {
+  return v === undefined || !Number.isFinite(v) ? null : fin(u[k]);
+}
