@@ -1,7 +1,9 @@
 import { dryAir } from '@isentrope/thermo';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
+import { loadMachines } from '../queries/machines.js';
 import { readResults } from '../queries/results.js';
+import { readSamples } from '../queries/samples.js';
 import {
   type SeededMachine,
   type SyntheticMachine,
@@ -10,7 +12,8 @@ import {
   seedSite,
 } from '../testing/synthetic.js';
 import { backfill } from './job.js';
-import type { ResultRow } from './pipeline.js';
+import { type RawSeries, type ResultRow, resolveComputeOptions } from './pipeline.js';
+import { ComputeWorkers } from './workers.js';
 
 // INVENTED data (testing/synthetic.ts): an expander and a compressor on dry air, the default
 // fluid model, so the worker threads (which resolve fluids themselves) can compute them.
@@ -76,5 +79,32 @@ describe('backfill on compute worker threads', () => {
     expect(onWorkers.workers).toBe(2);
     expect(onWorkers.points).toBe(inProcess.points);
     expect(await results()).toEqual(expected);
+  });
+
+  it('moves arrays that own their buffer to the worker and copies views into a shared one', async () => {
+    const [row] = await loadMachines(db.pool, [seeded[0]?.machineId as number]);
+    if (row === undefined) throw new Error('seeded machine not found');
+    const ids = row.tags.map((t) => t.id);
+    const samples = await readSamples(db.pool, ids, T0 - 2 * H, T0 + 3 * H);
+    // One series rebuilt as views into one larger buffer that also holds other data.
+    const [firstId, first] = [...samples.entries()][0] as [number, RawSeries];
+    const n = first.t.length;
+    const shared = new ArrayBuffer(8 * (2 * n + 1));
+    const t = new Float64Array(shared, 8, n);
+    t.set(Array.from(first.t));
+    const value = new Float64Array(shared, 8 * (n + 1), n);
+    value.set(Array.from(first.value));
+    samples.set(firstId, { t, value, quality: first.quality });
+    const owned = (samples.get(ids.find((id) => id !== firstId) as number) as RawSeries).t as Float64Array;
+    const workers = new ComputeWorkers(1);
+    try {
+      const out = await workers.compute(row, samples, T0, T0 + H, resolveComputeOptions({}));
+      expect(out.rows).toBe(60);
+    } finally {
+      await workers.close();
+    }
+    expect(shared.byteLength).toBe(8 * (2 * n + 1)); // copied, still usable here
+    expect(t[0]).toBe(first.t[0]);
+    expect(owned.buffer.byteLength).toBe(0); // moved: detached here
   });
 });

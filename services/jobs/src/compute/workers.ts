@@ -46,8 +46,16 @@ export class ComputeWorkers {
     const transferList: ArrayBuffer[] = [];
     const seen = new Set<ArrayBufferLike>();
     for (const s of samples.values())
+      // Only an array that owns its whole buffer is moved; a view into a shared buffer (a Node
+      // Buffer pool slice, say) is copied, so nothing else is detached.
       for (const column of [s.t, s.value, s.quality])
-        if (ArrayBuffer.isView(column) && column.buffer instanceof ArrayBuffer && !seen.has(column.buffer)) {
+        if (
+          ArrayBuffer.isView(column) &&
+          column.buffer instanceof ArrayBuffer &&
+          column.byteOffset === 0 &&
+          column.byteLength === column.buffer.byteLength &&
+          !seen.has(column.buffer)
+        ) {
           seen.add(column.buffer);
           transferList.push(column.buffer);
         }
