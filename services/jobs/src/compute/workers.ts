@@ -45,9 +45,9 @@ export class ComputeWorkers {
   ): Promise<{ body: Buffer; rows: number }> {
     const transferList: ArrayBuffer[] = [];
     const seen = new Set<ArrayBufferLike>();
+    // Only an array that owns its whole buffer is moved; a view into a shared buffer (a Node
+    // Buffer pool slice, say) is copied, so nothing else is detached.
     for (const s of samples.values())
-      // Only an array that owns its whole buffer is moved; a view into a shared buffer (a Node
-      // Buffer pool slice, say) is copied, so nothing else is detached.
       for (const column of [s.t, s.value, s.quality])
         if (
           ArrayBuffer.isView(column) &&
