@@ -9,8 +9,10 @@
  */
 import { StoreError } from './errors.js';
 
-const SIGNATURE = Buffer.from([0x50, 0x47, 0x43, 0x4f, 0x50, 0x59, 0x0a, 0xff, 0x0d, 0x0a, 0x00]);
-const HEADER_BYTES = 19;
+/** The 11-byte signature that opens every binary COPY stream. */
+export const COPY_SIGNATURE = Buffer.from([0x50, 0x47, 0x43, 0x4f, 0x50, 0x59, 0x0a, 0xff, 0x0d, 0x0a, 0x00]);
+/** Signature, int32 flags and int32 header-extension length (no extension). */
+export const COPY_HEADER_BYTES = 19;
 const TRAILER_BYTES = 2;
 /** 2000-01-01T00:00:00Z [ms since the Unix epoch], PostgreSQL's timestamp epoch. */
 export const PG_EPOCH_MS = 946_684_800_000;
@@ -52,10 +54,10 @@ export interface RollupRow {
 }
 
 function header(buf: Buffer): number {
-  SIGNATURE.copy(buf, 0);
+  COPY_SIGNATURE.copy(buf, 0);
   buf.writeInt32BE(0, 11);
   buf.writeInt32BE(0, 15);
-  return HEADER_BYTES;
+  return COPY_HEADER_BYTES;
 }
 
 /** A DataView over a Buffer (its setters are inlined by V8, unlike Buffer's checked writers). */
@@ -68,11 +70,17 @@ function view(buf: Buffer): DataView {
  * Split into two 32-bit words: the microsecond count (about 8e14 today) is exact in a
  * double, and Math.floor keeps two's complement right for instants before 2000.
  */
-function writeTime(dv: DataView, offset: number, ms: number): void {
+export function writeCopyTime(dv: DataView, offset: number, ms: number): void {
   const us = Math.round((ms - PG_EPOCH_MS) * 1000);
   const hi = Math.floor(us / TWO_32);
   dv.setInt32(offset, hi);
   dv.setUint32(offset + 4, us - hi * TWO_32);
+}
+
+/** A timestamptz written by writeCopyTime (or sent by the server) at `offset`, as ms since the epoch. */
+export function readCopyTime(dv: DataView, offset: number): number {
+  // Exact below 2^53 us (year 2255).
+  return (dv.getInt32(offset) * TWO_32 + dv.getUint32(offset + 4)) / 1000 + PG_EPOCH_MS;
 }
 
 /** Bytes of one sample tuple: count(2) + tag(4+4) + time(4+8) + value(4+8) + quality(4+2). */
@@ -80,7 +88,7 @@ const SAMPLE_BYTES = 40;
 
 /** Binary COPY data for (tag_id int4, time timestamptz, value float8, quality int2). */
 export function encodeSamples(rows: readonly SampleRow[]): Buffer {
-  const buf = Buffer.allocUnsafe(HEADER_BYTES + rows.length * SAMPLE_BYTES + TRAILER_BYTES);
+  const buf = Buffer.allocUnsafe(COPY_HEADER_BYTES + rows.length * SAMPLE_BYTES + TRAILER_BYTES);
   const dv = view(buf);
   let o = header(buf);
   for (const r of rows) {
@@ -90,7 +98,7 @@ export function encodeSamples(rows: readonly SampleRow[]): Buffer {
     dv.setInt32(o + 2, 4);
     dv.setInt32(o + 6, r.tagId);
     dv.setInt32(o + 10, 8);
-    writeTime(dv, o + 14, r.time);
+    writeCopyTime(dv, o + 14, r.time);
     dv.setInt32(o + 22, 8);
     dv.setFloat64(o + 26, r.value);
     dv.setInt32(o + 34, 2);
@@ -122,7 +130,7 @@ export class RollupEncoder {
     private readonly withHourly = true,
   ) {
     const row = ROLLUP_BYTES + (withHourly ? HOURLY_BYTES : 0);
-    this.buf = Buffer.allocUnsafe(HEADER_BYTES + capacity * row + TRAILER_BYTES);
+    this.buf = Buffer.allocUnsafe(COPY_HEADER_BYTES + capacity * row + TRAILER_BYTES);
     this.dv = view(this.buf);
     this.offset = header(this.buf);
   }
@@ -150,7 +158,7 @@ export class RollupEncoder {
     dv.setInt32(o + 2, 4);
     dv.setInt32(o + 6, tagId);
     dv.setInt32(o + 10, 8);
-    writeTime(dv, o + 14, bucket);
+    writeCopyTime(dv, o + 14, bucket);
     dv.setInt32(o + 22, 8);
     dv.setFloat64(o + 26, min);
     dv.setInt32(o + 34, 8);
@@ -162,7 +170,7 @@ export class RollupEncoder {
     dv.setInt32(o + 66, 8);
     dv.setFloat64(o + 70, lastValue);
     dv.setInt32(o + 78, 8);
-    writeTime(dv, o + 82, lastTime);
+    writeCopyTime(dv, o + 82, lastTime);
     if (this.withHourly) {
       dv.setInt32(o + 90, 1);
       dv.setUint8(o + 94, hourly ? 1 : 0);

@@ -1,6 +1,13 @@
 export * from './audit.js';
 export * from './catalog.js';
 export * from './compression.js';
+export {
+  COPY_HEADER_BYTES,
+  COPY_SIGNATURE,
+  PG_EPOCH_MS,
+  readCopyTime,
+  writeCopyTime,
+} from './copy-binary.js';
 export * from './database.js';
 export * from './embedded.js';
 export * from './errors.js';

@@ -2,6 +2,7 @@
  * The binary COPY body of result rows (pure: no I/O), shared by the results writer and the
  * compute workers, which encode their rows where they computed them.
  */
+import { COPY_SIGNATURE, writeCopyTime } from '@isentrope/store/copy-binary';
 import type { ResultRow } from '../compute/pipeline.js';
 import { JobsError } from '../errors.js';
 
@@ -34,11 +35,8 @@ export const NUM_COLUMNS = [
 /** The column list of the COPY, in the order the encoder writes the fields. */
 export const RESULT_COPY_COLUMNS = `machine_id, time, ${NUM_COLUMNS.map(([c]) => c).join(', ')}, steady, flags, valid, computed_at`;
 
-/** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
-const PG_EPOCH_MS = 946_684_800_000;
 /** Object id of the text type (pg_type), the element type of the flags array. */
 const TEXT_OID = 25;
-const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1');
 const FIELDS = 2 + NUM_COLUMNS.length + 4;
 
 /**
@@ -100,7 +98,7 @@ class CopyEncoder {
     return field;
   }
 
-  row(r: ResultRow, computedAtUs: number): void {
+  row(r: ResultRow, computedAtMs: number): void {
     const flags = this.flagField(r.flags);
     this.need(2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + flags.length + 5 + 12);
     const v = this.view;
@@ -108,7 +106,7 @@ class CopyEncoder {
     v.setInt16(o, FIELDS);
     v.setInt32(o + 2, 4);
     v.setInt32(o + 6, r.machineId);
-    o = timestamp(v, o + 10, (r.time - PG_EPOCH_MS) * 1000);
+    o = timestamp(v, o + 10, r.time);
     // Field by field in NUM_COLUMNS order: named reads stay monomorphic (a keyed loop does not).
     o = float8(v, o, r.pIn);
     o = float8(v, o, r.tIn);
@@ -139,7 +137,7 @@ class CopyEncoder {
     o += flags.length;
     v.setInt32(o, 1);
     v.setUint8(o + 4, r.valid ? 1 : 0);
-    this.at = timestamp(v, o + 5, computedAtUs);
+    this.at = timestamp(v, o + 5, computedAtMs);
   }
 
   trailer(): void {
@@ -169,13 +167,10 @@ function float8(v: DataView, o: number, x: number | null): number {
   return o + 12;
 }
 
-/** A timestamptz field at o: length 8, then int8 microseconds as two 32-bit halves (exact below 2^53). */
-function timestamp(v: DataView, o: number, us: number): number {
-  const x = Math.round(us);
-  const hi = Math.floor(x / 4_294_967_296);
+/** A timestamptz field at o [ms since the epoch]: length 8, then the store's int8 microseconds. */
+function timestamp(v: DataView, o: number, ms: number): number {
   v.setInt32(o, 8);
-  v.setInt32(o + 4, hi);
-  v.setUint32(o + 8, x - hi * 4_294_967_296);
+  writeCopyTime(v, o + 4, ms);
   return o + 12;
 }
 
@@ -185,7 +180,7 @@ function timestamp(v: DataView, o: number, us: number): number {
  */
 export class ResultCopyBody {
   private readonly enc = new CopyEncoder();
-  private readonly computedAtUs: number;
+  private readonly computedAtMs: number;
   rows = 0;
 
   constructor(
@@ -194,7 +189,7 @@ export class ResultCopyBody {
     private readonly toMs: number,
     computedAtMs: number = Date.now(),
   ) {
-    this.computedAtUs = (computedAtMs - PG_EPOCH_MS) * 1000;
+    this.computedAtMs = computedAtMs;
     this.enc.header();
   }
 
@@ -212,7 +207,7 @@ export class ResultCopyBody {
           rowTime: r.time,
         },
       );
-    this.enc.row(r, this.computedAtUs);
+    this.enc.row(r, this.computedAtMs);
     this.rows++;
   }
 

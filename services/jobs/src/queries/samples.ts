@@ -1,13 +1,10 @@
+import { COPY_HEADER_BYTES, readCopyTime } from '@isentrope/store/copy-binary';
 import type pg from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
 import type { RawSeries } from '../compute/pipeline.js';
 import { JobsError } from '../errors.js';
 import type { Queryable } from './machines.js';
 
-/** Milliseconds from the Unix epoch to PostgreSQL's timestamp epoch (2000-01-01 UTC). */
-const PG_EPOCH_MS = 946_684_800_000;
-/** Binary COPY header: 11-byte signature, int32 flags, int32 extension length (no extension). */
-const COPY_HEADER_BYTES = 19;
 /** One tuple of (tag_id int4, time timestamptz, value float8, quality int2): field count and four length-prefixed fields. */
 const TUPLE_BYTES = 2 + (4 + 4) + (4 + 8) + (4 + 8) + (4 + 2);
 
@@ -78,9 +75,7 @@ export function decodeSampleCopy(b: Buffer): Map<number, RawSeries> {
       quality: Int16Array;
       n: number;
     };
-    // int8 microseconds as two 32-bit halves: exact below 2^53 us (year 2255).
-    const us = view.getInt32(o + 14) * 4_294_967_296 + view.getUint32(o + 18);
-    s.t[s.n] = us / 1000 + PG_EPOCH_MS;
+    s.t[s.n] = readCopyTime(view, o + 14);
     s.value[s.n] = view.getFloat64(o + 26);
     // As stored; the pipeline reads its OPC DA class (alignQuality).
     s.quality[s.n] = view.getInt16(o + 38);
