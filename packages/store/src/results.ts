@@ -63,7 +63,7 @@ type NumericField = keyof typeof NUMERIC;
 const FIELDS = Object.keys(NUMERIC) as NumericField[];
 const COLUMNS = FIELDS.map((f) => NUMERIC[f]);
 
-/** Upserts rows on (machine_id, time): a recomputation replaces the earlier figures. */
+/** Upserts rows on (machine_id, time): a recomputation replaces the earlier figures; the spans written are queued for the analysis job (analysis_pending). */
 export async function writeResults(pool: pg.Pool, rows: readonly ResultRow[]): Promise<number> {
   if (rows.length === 0) return 0;
   const times = rows.map((r) => r.time.getTime());
@@ -92,15 +92,21 @@ export async function writeResults(pool: pg.Pool, rows: readonly ResultRow[]): P
     'text[]',
     'boolean',
   ];
-  const res = await pool.query(
-    `INSERT INTO results (${cols.join(', ')}, computed_at)
+  const res = await pool.query<{ n: number }>(
+    `WITH written AS (
+     INSERT INTO results (${cols.join(', ')}, computed_at)
      SELECT ${cols.join(', ')}, now() FROM jsonb_to_recordset($1::jsonb) AS x(${cols.map((c, i) => `${c} ${types[i]}`).join(', ')})
      ON CONFLICT (machine_id, time) DO UPDATE SET ${[...COLUMNS, 'steady', 'flags', 'valid', 'computed_at']
        .map((c) => `${c} = excluded.${c}`)
-       .join(', ')}`,
+       .join(', ')}
+     RETURNING machine_id, time),
+     queued AS (
+       INSERT INTO analysis_pending (machine_id, from_time, to_time)
+       SELECT machine_id, min(time), max(time) + interval '1 millisecond' FROM written GROUP BY machine_id)
+     SELECT count(*)::int AS n FROM written`,
     [JSON.stringify(records)],
   );
-  return res.rowCount ?? 0;
+  return res.rows[0]?.n ?? 0;
 }
 
 export interface StoredResult extends ResultRow {

@@ -92,7 +92,7 @@ export async function seedTestMachine(
   return { id, tags };
 }
 
-/** Insert (or replace) result rows of a machine. */
+/** Insert (or replace) result rows of a machine, queued for the analysis job as the compute job queues them. */
 export async function seedResults(
   pool: pg.Pool,
   machineId: number,
@@ -109,14 +109,18 @@ export async function seedResults(
   for (let k = 0; k < rows.length; k += 5000) {
     const part = rows.slice(k, k + 5000);
     await pool.query(
-      `INSERT INTO results (machine_id, time, efficiency, u_efficiency, operating_point, steady, valid, flags, computed_at)
+      `WITH written AS (
+       INSERT INTO results (machine_id, time, efficiency, u_efficiency, operating_point, steady, valid, flags, computed_at)
        SELECT $1, to_timestamp(u.t / 1000), u.e, u.ue, u.x, u.s, u.v,
               CASE WHEN u.f = '' THEN '{}'::text[] ELSE string_to_array(u.f, '|') END, clock_timestamp()
          FROM unnest($2::float8[], $3::float8[], $4::float8[], $5::float8[], $6::boolean[], $7::boolean[], $8::text[])
            AS u(t, e, ue, x, s, v, f)
        ON CONFLICT (machine_id, time) DO UPDATE SET efficiency = EXCLUDED.efficiency, u_efficiency = EXCLUDED.u_efficiency,
          operating_point = EXCLUDED.operating_point, steady = EXCLUDED.steady, valid = EXCLUDED.valid, flags = EXCLUDED.flags,
-         computed_at = EXCLUDED.computed_at`,
+         computed_at = EXCLUDED.computed_at
+       RETURNING time)
+       INSERT INTO analysis_pending (machine_id, from_time, to_time)
+       SELECT $1, min(time), max(time) + interval '1 millisecond' FROM written`,
       [
         machineId,
         part.map((r) => r.t),

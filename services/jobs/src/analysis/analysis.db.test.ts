@@ -129,6 +129,72 @@ describe('analysis', () => {
     expect(d.rows[0]?.hi).toBeCloseTo(1, 9);
   });
 
+  it('a pass cut short by its batch limit leaves the rest queued, and the next pass finishes it', async () => {
+    const m = await seedTestMachine(db.pool, siteId, 'batched');
+    await seedBaseline(db.pool, m.id, [0.8], T0 - 2 * DAY, T0 - DAY);
+    // Two separate spans of 30 rows, three hours apart.
+    const rows = [0, 180].flatMap((start) =>
+      Array.from({ length: 30 }, (_, i) => ({
+        t: T0 + (start + i) * 60_000,
+        efficiency: 0.78,
+        uEfficiency: 0.002,
+        operatingPoint: 50,
+      })),
+    );
+    await seedResults(db.pool, m.id, rows.slice(0, 30));
+    await seedResults(db.pool, m.id, rows.slice(30));
+    const first = await runAnalysisOnce(db.pool, {
+      nowMs: T0 + DAY,
+      machineIds: [m.id],
+      batchRows: 20,
+      maxBatches: 2,
+    });
+    expect(first[0]?.driftRows).toBe(30); // 20, then the span's last 10
+    const queued = await db.pool.query<{ a: Date; b: Date }>(
+      'SELECT from_time AS a, to_time AS b FROM analysis_pending WHERE machine_id = $1',
+      [m.id],
+    );
+    expect(queued.rows.map((r) => [r.a.getTime(), r.b.getTime()])).toEqual([
+      [T0 + 180 * 60_000, T0 + 209 * 60_000 + 1],
+    ]);
+    const second = await runAnalysisOnce(db.pool, { nowMs: T0 + DAY, machineIds: [m.id], batchRows: 20 });
+    expect(second[0]?.driftRows).toBe(30);
+    const left = await db.pool.query<{ n: number; pending: number }>(
+      `SELECT (SELECT count(*)::int FROM analysis_pending WHERE machine_id = $1) AS n,
+              (SELECT count(*)::int FROM results WHERE machine_id = $1 AND (analyzed_at IS NULL OR analyzed_at <> computed_at)) AS pending`,
+      [m.id],
+    );
+    expect(left.rows[0]).toEqual({ n: 0, pending: 0 });
+    // A third pass has nothing to do.
+    const third = await runAnalysisOnce(db.pool, { nowMs: T0 + DAY, machineIds: [m.id] });
+    expect(third[0]?.driftRows).toBe(0);
+  });
+
+  it('a new baseline queues every row of the machine again', async () => {
+    const m = await seedTestMachine(db.pool, siteId, 'rebaselined');
+    await seedBaseline(db.pool, m.id, [0.8], T0 - 2 * DAY, T0 - DAY);
+    const rows = Array.from({ length: 40 }, (_, i) => ({
+      t: T0 + i * 60_000,
+      efficiency: 0.79,
+      uEfficiency: 0.002,
+      operatingPoint: 50,
+    }));
+    await seedResults(db.pool, m.id, rows);
+    await runAnalysisOnce(db.pool, { nowMs: T0 + DAY, machineIds: [m.id] });
+    // The engineer fits a new baseline (say after an overhaul): the old one is retired.
+    await db.pool.query('UPDATE baselines SET active = false WHERE machine_id = $1', [m.id]);
+    await seedBaseline(db.pool, m.id, [0.78], T0 - 2 * DAY, T0 - DAY);
+    const out = await runAnalysisOnce(db.pool, { nowMs: T0 + DAY, machineIds: [m.id] });
+    expect(out[0]?.driftRows).toBe(40);
+    const d = await db.pool.query<{ lo: number; hi: number }>(
+      'SELECT min(drift) AS lo, max(drift) AS hi FROM results WHERE machine_id = $1',
+      [m.id],
+    );
+    // 100 (0.79 - 0.78) = +1 point (arithmetic).
+    expect(d.rows[0]?.lo).toBeCloseTo(1, 9);
+    expect(d.rows[0]?.hi).toBeCloseTo(1, 9);
+  });
+
   it('degradation rate from seeded drift within 10 % of the truth, with a forecast date', async () => {
     const m = await seedTestMachine(db.pool, siteId, 'degrading', {
       bands: { warning: 2, alarm: 4, onDelayS: 900, offDelayS: 900, deadband: 0.5 },

@@ -5,7 +5,8 @@
  *  2. the drift series: for each result row, the baseline efficiency at its operating point,
  *     drift = 100 (efficiency - baseline) [%-points] and u_drift = 100 sqrt(u_eff^2 + u_base^2)
  *     (computeDrift, packages/monitor/src/baseline.ts), written onto the row; rows recomputed by
- *     the compute job, or judged on an older baseline, are pending again (migrations/0004);
+ *     the compute job, or judged on an older baseline, are pending again, and every writer of
+ *     results queues the range it wrote (analysis_pending, migrations/0007);
  *  3. machine_status: rolling 1 h / 24 h / 7 d windows over steady, valid, fault-free results,
  *     and the degradation rate (Theil-Sen on daily drift means, Sen's interval) with the forecast
  *     date of reaching the alarm band (packages/monitor/src/degradation.ts).
@@ -75,20 +76,24 @@ interface PendingRow {
   computed_at: string;
 }
 
-/** Write the drift series of pending rows; returns the rows written. */
+/** Write the drift series of pending rows in [fromMs, toMs), up to `limit` rows from the oldest. */
 async function writeDriftBatch(
   db: Queryable,
   machineId: number,
   baseline: StoredBaseline | undefined,
+  fromMs: number,
+  toMs: number,
   limit: number,
-): Promise<number> {
+): Promise<{ rows: number; lastMs: number }> {
   const res = await db.query<PendingRow>(
     `SELECT (extract(epoch FROM time) * 1000)::float8 AS t, efficiency, u_efficiency, operating_point, computed_at::text AS computed_at
-       FROM results WHERE machine_id = $1 AND (analyzed_at IS NULL OR analyzed_at <> computed_at)
-      ORDER BY time LIMIT $2`,
-    [machineId, limit],
+       FROM results
+      WHERE machine_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
+        AND (analyzed_at IS NULL OR analyzed_at <> computed_at)
+      ORDER BY time LIMIT $4`,
+    [machineId, fromMs, toMs, limit],
   );
-  if (res.rows.length === 0) return 0;
+  if (res.rows.length === 0) return { rows: 0, lastMs: toMs };
   const n = res.rows.length;
   const t = new Array<number>(n);
   const stamp = new Array<string>(n);
@@ -110,8 +115,8 @@ async function writeDriftBatch(
     drift[i] = finiteOrNull(d.driftPts);
     uDrift[i] = finiteOrNull(d.uDriftPts);
   }
-  // The row must still hold what was read (same computed_at): a concurrent recompute wins and
-  // leaves the row pending for the next pass.
+  // The row must still hold what was read (same computed_at): a concurrent recompute wins, and
+  // the range it queued brings its rows to the next pass.
   await db.query(
     `UPDATE results r SET baseline_id = $2, baseline_efficiency = u.b, u_baseline = u.ub, drift = u.d, u_drift = u.ud,
             analyzed_at = r.computed_at
@@ -119,7 +124,77 @@ async function writeDriftBatch(
       WHERE r.machine_id = $1 AND r.time = to_timestamp(u.t / 1000) AND r.computed_at = u.c::timestamptz`,
     [machineId, baseline?.id ?? null, t, stamp, base, uBase, drift, uDrift],
   );
-  return n;
+  return { rows: n, lastMs: t[n - 1] as number };
+}
+
+/** Disjoint spans [from, to) [ms] covering the given ranges, oldest first. */
+export function mergeRanges(ranges: readonly (readonly [number, number])[]): [number, number][] {
+  const sorted = [...ranges].sort((a, b) => a[0] - b[0]);
+  const out: [number, number][] = [];
+  for (const [a, b] of sorted) {
+    const last = out[out.length - 1];
+    if (last !== undefined && a <= last[1]) last[1] = Math.max(last[1], b);
+    else out.push([a, b]);
+  }
+  return out;
+}
+
+/**
+ * The drift series of a machine's pending rows: the ranges queued in analysis_pending (migrations
+ * 0007), batch by batch from the oldest, at most `maxBatches` batches; the ranges read are then
+ * replaced by what is left of them (nothing, when every batch fitted). Returns the rows written.
+ */
+async function writeDrift(
+  pool: pg.Pool,
+  machineId: number,
+  baseline: StoredBaseline | undefined,
+  batchRows: number,
+  maxBatches: number,
+): Promise<number> {
+  const queued = await pool.query<{ id: string; a: number; b: number }>(
+    `SELECT id, (extract(epoch FROM from_time) * 1000)::float8 AS a, (extract(epoch FROM to_time) * 1000)::float8 AS b
+       FROM analysis_pending WHERE machine_id = $1`,
+    [machineId],
+  );
+  if (queued.rows.length === 0) return 0;
+  const spans = mergeRanges(queued.rows.map((r) => [r.a, r.b] as const));
+  let rows = 0;
+  let batches = 0;
+  const left: [number, number][] = [];
+  for (const [a, b] of spans) {
+    let from = a;
+    while (from < b) {
+      if (batches >= maxBatches) {
+        left.push([from, b]);
+        break;
+      }
+      const batch = await writeDriftBatch(pool, machineId, baseline, from, b, batchRows);
+      batches++;
+      rows += batch.rows;
+      // Grid times are whole milliseconds: the next batch starts after the last row read.
+      from = batch.rows < batchRows ? b : batch.lastMs + 1;
+    }
+  }
+  const client = await pool.connect();
+  try {
+    await client.query('BEGIN');
+    await client.query('DELETE FROM analysis_pending WHERE id = ANY($1::bigint[])', [
+      queued.rows.map((r) => r.id),
+    ]);
+    for (const [a, b] of left)
+      await client.query(
+        `INSERT INTO analysis_pending (machine_id, from_time, to_time)
+         VALUES ($1, to_timestamp($2::float8 / 1000), to_timestamp($3::float8 / 1000))`,
+        [machineId, a, b],
+      );
+    await client.query('COMMIT');
+  } catch (error) {
+    await client.query('ROLLBACK').catch(() => {});
+    throw error;
+  } finally {
+    client.release();
+  }
+  return rows;
 }
 
 interface WindowAgg {
@@ -310,18 +385,19 @@ export async function analyseMachine(
     fit = outcome.status === 'failed' ? `failed: ${outcome.code}` : outcome.status;
     baseline = outcome.status === 'fitted' ? outcome.baseline : await readActiveBaseline(pool, m.id);
   }
-  // A baseline other than the one the series was last written with: every row is pending again.
+  // A baseline other than the one the series was last written with: every row is pending again,
+  // and their span is queued.
   if (baseline !== undefined && m.status_baseline_id !== baseline.id)
     await pool.query(
-      `UPDATE results SET analyzed_at = NULL WHERE machine_id = $1 AND baseline_id IS DISTINCT FROM $2 AND analyzed_at IS NOT NULL`,
+      `WITH reset AS (
+         UPDATE results SET analyzed_at = NULL
+          WHERE machine_id = $1 AND baseline_id IS DISTINCT FROM $2 AND analyzed_at IS NOT NULL
+          RETURNING time)
+       INSERT INTO analysis_pending (machine_id, from_time, to_time)
+       SELECT $1, min(time), max(time) + interval '1 millisecond' FROM reset HAVING count(*) > 0`,
       [m.id, baseline.id],
     );
-  let rows = 0;
-  for (let b = 0; b < o.maxBatches; b++) {
-    const k = await writeDriftBatch(pool, m.id, baseline, o.batchRows);
-    rows += k;
-    if (k < o.batchRows) break;
-  }
+  const rows = await writeDrift(pool, m.id, baseline, o.batchRows, o.maxBatches);
   const written = await writeStatus(pool, m, baseline, o);
   return {
     machineId: m.id,

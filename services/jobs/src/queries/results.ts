@@ -49,7 +49,11 @@ export async function ensureResultPartitions(pool: pg.Pool, fromMs: number, toMs
   }
 }
 
-/** Upsert result rows (partitions must exist: ensureResultPartitions). */
+/** Queues a range of written results for the analysis job (analysis_pending, migrations/0007). */
+const QUEUE_RANGE_SQL = `INSERT INTO analysis_pending (machine_id, from_time, to_time)
+  VALUES ($1, to_timestamp($2::float8 / 1000), to_timestamp($3::float8 / 1000))`;
+
+/** Upsert result rows (partitions must exist: ensureResultPartitions); their spans are queued for the analysis job. */
 export async function writeResults(db: Queryable, rows: readonly ResultRow[]): Promise<void> {
   const batch = 5000;
   for (let k = 0; k < rows.length; k += batch) {
@@ -66,14 +70,18 @@ export async function writeResults(db: Queryable, rows: readonly ResultRow[]): P
     const cols = NUM_COLUMNS.map(([c]) => c);
     const args = NUM_COLUMNS.map((_, i) => `$${i + 3}::float8[]`);
     await db.query(
-      `INSERT INTO results (machine_id, time, ${cols.join(', ')}, steady, flags, valid, computed_at)
+      `WITH written AS (
+       INSERT INTO results (machine_id, time, ${cols.join(', ')}, steady, flags, valid, computed_at)
        SELECT u.m, to_timestamp(u.t / 1000), ${cols.map((_, i) => `u.c${i}`).join(', ')}, u.steady,
               CASE WHEN u.flags = '' THEN '{}'::text[] ELSE string_to_array(u.flags, '|') END, u.valid, now()
          FROM unnest($1::int[], $2::float8[], ${args.join(', ')}, $${n + 3}::boolean[], $${n + 4}::text[], $${n + 5}::boolean[])
            AS u(m, t, ${cols.map((_, i) => `c${i}`).join(', ')}, steady, flags, valid)
        ON CONFLICT (machine_id, time) DO UPDATE SET
          ${cols.map((c) => `${c} = EXCLUDED.${c}`).join(', ')},
-         steady = EXCLUDED.steady, flags = EXCLUDED.flags, valid = EXCLUDED.valid, computed_at = EXCLUDED.computed_at`,
+         steady = EXCLUDED.steady, flags = EXCLUDED.flags, valid = EXCLUDED.valid, computed_at = EXCLUDED.computed_at
+       RETURNING machine_id, time)
+       INSERT INTO analysis_pending (machine_id, from_time, to_time)
+       SELECT machine_id, min(time), max(time) + interval '1 millisecond' FROM written GROUP BY machine_id`,
       values,
     );
   }
@@ -123,6 +131,7 @@ export async function copyResultsRange(
         stream.on('error', reject);
         stream.end(body);
       });
+      await client.query(QUEUE_RANGE_SQL, [machineId, fromMs, toMs]);
       await client.query('COMMIT');
       return;
     } catch (error) {
