@@ -16,7 +16,7 @@ export interface ComputeTask {
 }
 
 export interface ComputeTaskResult {
-  /** The COPY body, in a buffer of its own size (it is copied back to the main thread). */
+  /** The COPY body: a view at the start of a buffer of its own, which is moved to the main thread. */
   readonly body: Uint8Array;
   readonly rows: number;
 }
@@ -33,6 +33,6 @@ export function runComputeTask(task: ComputeTask): ComputeTaskResult {
   }
   const out = new ResultCopyBody(task.machine.id, task.fromMs, task.toMs);
   computeRangeInto(machine, task.samples, task.fromMs, task.toMs, task.options, (row) => out.add(row));
-  // slice(): a tight copy, since cloning a view would copy the encoder's whole buffer.
-  return { body: out.finish().slice(), rows: out.rows };
+  // The encoder's buffer belongs to this task alone, so it is moved back whole, not copied.
+  return { body: out.finish(), rows: out.rows };
 }
