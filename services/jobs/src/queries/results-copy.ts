@@ -32,12 +32,16 @@ export const NUM_COLUMNS = [
   ['operating_point', 'operatingPoint'],
 ] as const satisfies readonly (readonly [string, keyof ResultRow])[];
 
-/** The column list of the COPY, in the order the encoder writes the fields. */
-export const RESULT_COPY_COLUMNS = `machine_id, time, ${NUM_COLUMNS.map(([c]) => c).join(', ')}, steady, flags, valid, computed_at`;
+/**
+ * The column list of the COPY, in the order the encoder writes the fields. computed_at is left to
+ * its column default, now(): the start of the writing transaction, as the upsert path sets it
+ * (12 bytes a row less to send and to parse).
+ */
+export const RESULT_COPY_COLUMNS = `machine_id, time, ${NUM_COLUMNS.map(([c]) => c).join(', ')}, steady, flags, valid`;
 
 /** Object id of the text type (pg_type), the element type of the flags array. */
 const TEXT_OID = 25;
-const FIELDS = 2 + NUM_COLUMNS.length + 4;
+const FIELDS = 2 + NUM_COLUMNS.length + 3;
 
 /**
  * Rows in PostgreSQL's binary COPY format (PostgreSQL documentation, COPY, "Binary Format"):
@@ -98,9 +102,9 @@ class CopyEncoder {
     return field;
   }
 
-  row(r: ResultRow, computedAtMs: number): void {
+  row(r: ResultRow): void {
     const flags = this.flagField(r.flags);
-    this.need(2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + flags.length + 5 + 12);
+    this.need(2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + flags.length + 5);
     const v = this.view;
     let o = this.at;
     v.setInt16(o, FIELDS);
@@ -137,7 +141,7 @@ class CopyEncoder {
     o += flags.length;
     v.setInt32(o, 1);
     v.setUint8(o + 4, r.valid ? 1 : 0);
-    this.at = timestamp(v, o + 5, computedAtMs);
+    this.at = o + 5;
   }
 
   trailer(): void {
@@ -180,16 +184,13 @@ function timestamp(v: DataView, o: number, ms: number): number {
  */
 export class ResultCopyBody {
   private readonly enc = new CopyEncoder();
-  private readonly computedAtMs: number;
   rows = 0;
 
   constructor(
     private readonly machineId: number,
     private readonly fromMs: number,
     private readonly toMs: number,
-    computedAtMs: number = Date.now(),
   ) {
-    this.computedAtMs = computedAtMs;
     this.enc.header();
   }
 
@@ -207,7 +208,7 @@ export class ResultCopyBody {
           rowTime: r.time,
         },
       );
-    this.enc.row(r, this.computedAtMs);
+    this.enc.row(r);
     this.rows++;
   }
 
@@ -227,9 +228,8 @@ export function encodeResultRows(
   machineId: number,
   fromMs: number,
   toMs: number,
-  computedAtMs: number = Date.now(),
 ): Buffer {
-  const body = new ResultCopyBody(machineId, fromMs, toMs, computedAtMs);
+  const body = new ResultCopyBody(machineId, fromMs, toMs);
   for (const r of rows) body.add(r);
   return body.finish();
 }
