@@ -72,4 +72,22 @@ describe('decodeSampleCopy', () => {
     b.writeInt16BE(3, 19); // three fields where four are expected
     expect(() => decodeSampleCopy(b)).toThrow(/unexpected tuple/);
   });
+
+  it('refuses arrays whose header or size does not match', () => {
+    // One tuple: tag 7, then a timestamptz array claiming two elements with room for one.
+    const b = Buffer.alloc(19 + 10 + 24 + 12 + 2);
+    let o = 19;
+    o = b.writeInt16BE(4, o);
+    o = b.writeInt32BE(4, o);
+    o = b.writeInt32BE(7, o);
+    o = b.writeInt32BE(20 + 12, o); // bytes of the array: header and one element
+    o = b.writeInt32BE(1, o); // ndim
+    o = b.writeInt32BE(0, o); // no NULLs
+    o = b.writeInt32BE(1184, o); // timestamptz
+    o = b.writeInt32BE(2, o); // two elements: wrong
+    b.writeInt32BE(1, o); // lower bound
+    expect(() => decodeSampleCopy(b)).toThrow(/timestamptz array size/);
+    b.writeInt32BE(701, 19 + 10 + 12); // float8 where timestamptz belongs
+    expect(() => decodeSampleCopy(b)).toThrow(/array header/);
+  });
 });

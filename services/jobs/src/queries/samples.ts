@@ -5,16 +5,20 @@ import type { RawSeries } from '../compute/pipeline.js';
 import { JobsError } from '../errors.js';
 import type { Queryable } from './machines.js';
 
-/** One tuple of (tag_id int4, time timestamptz, value float8, quality int2): field count and four length-prefixed fields. */
-const TUPLE_BYTES = 2 + (4 + 4) + (4 + 8) + (4 + 8) + (4 + 2);
+/** Element type oids (pg_type) of the three arrays per tag: timestamptz, float8, int2. */
+const TIMESTAMPTZ_OID = 1184;
+const FLOAT8_OID = 701;
+const INT2_OID = 21;
 
 /**
  * Raw samples of the given tags with from <= time < to, columnar per tag and sorted by time.
- * Read with a binary COPY out of a plain SELECT (PostgreSQL documentation, COPY, "Binary
- * Format"): the server sends fixed 40-byte tuples and neither sorts nor aggregates; rows come in
- * the order the scan finds them, nearly always time order per tag, and a tag whose rows do not is
- * sorted here. Measured on the jobs bench: about a third of the server time and half the total
- * of an ordered string_agg of bytea records.
+ * Read with a binary COPY of one row per tag: the tag id and its times, values and qualities as
+ * three arrays (array_agg in one group sees the rows in one order, so the arrays line up). The
+ * server neither sorts nor converts to text; rows come in the order the scan finds them, nearly
+ * always time order, and a tag whose rows do not is sorted here. Measured on the jobs bench:
+ * the same server time as a binary COPY of one row per sample (PostgreSQL documentation, COPY,
+ * "Binary Format"), a third fewer bytes on the wire, and one protocol message per tag instead
+ * of one per sample, which was most of the reading thread's time.
  */
 export async function readSamples(
   pool: pg.Pool,
@@ -35,9 +39,10 @@ export async function readSamples(
   try {
     const stream = client.query(
       copyTo(
-        `COPY (SELECT tag_id, time, value, quality FROM samples
+        `COPY (SELECT tag_id, array_agg(time), array_agg(value), array_agg(quality) FROM samples
                 WHERE tag_id IN (${tagIds.join(', ')})
-                  AND time >= to_timestamp(${fromMs / 1000}) AND time < to_timestamp(${toMs / 1000}))
+                  AND time >= to_timestamp(${fromMs / 1000}) AND time < to_timestamp(${toMs / 1000})
+                GROUP BY tag_id)
          TO STDOUT (FORMAT binary)`,
       ),
     );
@@ -49,40 +54,56 @@ export async function readSamples(
   return decodeSampleCopy(Buffer.concat(chunks));
 }
 
-/** Split the binary COPY of readSamples into sorted columns per tag. */
+function badCopy(what: string, offset: number): JobsError {
+  return new JobsError('JOBS_BAD_SAMPLES', `unexpected ${what} in the samples COPY stream`, { offset });
+}
+
+/**
+ * The header of a one-dimensional array field without NULLs at o (its int32 length word first)
+ * of the given element type; returns the element count. The elements follow at o + 24.
+ */
+function arrayField(view: DataView, o: number, end: number, elementType: number): number {
+  if (o + 24 > end) throw badCopy('end of data', o);
+  const bytes = view.getInt32(o);
+  if (o + 4 + bytes > end) throw badCopy('array length', o);
+  // ndim 1, no NULL elements, the element type, then the dimension's size and lower bound.
+  if (view.getInt32(o + 4) !== 1 || view.getInt32(o + 8) !== 0 || view.getInt32(o + 12) !== elementType)
+    throw badCopy('array header', o);
+  return view.getInt32(o + 16);
+}
+
+/** Split the binary COPY of readSamples (one row per tag) into sorted columns per tag. */
 export function decodeSampleCopy(b: Buffer): Map<number, RawSeries> {
   const view = new DataView(b.buffer, b.byteOffset, b.byteLength);
-  // First pass: rows per tag, so each tag's columns are allocated once.
-  const counts = new Map<number, number>();
-  let o = COPY_HEADER_BYTES;
-  let rows = 0;
-  while (o + 2 <= b.length && view.getInt16(o) !== -1) {
-    if (view.getInt16(o) !== 4 || o + TUPLE_BYTES > b.length)
-      throw new JobsError('JOBS_BAD_SAMPLES', 'unexpected tuple in the samples COPY stream', { offset: o });
-    const tag = view.getInt32(o + 6);
-    counts.set(tag, (counts.get(tag) ?? 0) + 1);
-    o += TUPLE_BYTES;
-    rows++;
-  }
-  const series = new Map<number, { t: Float64Array; value: Float64Array; quality: Int16Array; n: number }>();
-  for (const [tag, n] of counts)
-    series.set(tag, { t: new Float64Array(n), value: new Float64Array(n), quality: new Int16Array(n), n: 0 });
-  o = COPY_HEADER_BYTES;
-  for (let r = 0; r < rows; r++, o += TUPLE_BYTES) {
-    const s = series.get(view.getInt32(o + 6)) as {
-      t: Float64Array;
-      value: Float64Array;
-      quality: Int16Array;
-      n: number;
-    };
-    s.t[s.n] = readCopyTime(view, o + 14);
-    s.value[s.n] = view.getFloat64(o + 26);
-    // As stored; the pipeline reads its OPC DA class (alignQuality).
-    s.quality[s.n] = view.getInt16(o + 38);
-    s.n++;
-  }
+  const end = b.length;
   const out = new Map<number, RawSeries>();
-  for (const [tag, s] of series) out.set(tag, sortedByTime(s));
+  let o = COPY_HEADER_BYTES;
+  while (o + 2 <= end && view.getInt16(o) !== -1) {
+    // Four fields: tag_id int4, then the three arrays.
+    if (view.getInt16(o) !== 4 || o + 10 > end || view.getInt32(o + 2) !== 4) throw badCopy('tuple', o);
+    const tag = view.getInt32(o + 6);
+    o += 10;
+    const n = arrayField(view, o, end, TIMESTAMPTZ_OID);
+    if (view.getInt32(o) !== 20 + n * 12) throw badCopy('timestamptz array size', o);
+    const t = new Float64Array(n);
+    let e = o + 24;
+    for (let i = 0; i < n; i++, e += 12) t[i] = readCopyTime(view, e + 4);
+    o = e;
+    if (arrayField(view, o, end, FLOAT8_OID) !== n || view.getInt32(o) !== 20 + n * 12)
+      throw badCopy('float8 array size', o);
+    const value = new Float64Array(n);
+    e = o + 24;
+    for (let i = 0; i < n; i++, e += 12) value[i] = view.getFloat64(e + 4);
+    o = e;
+    if (arrayField(view, o, end, INT2_OID) !== n || view.getInt32(o) !== 20 + n * 6)
+      throw badCopy('int2 array size', o);
+    // As stored; the pipeline reads its OPC DA class (alignQuality).
+    const quality = new Int16Array(n);
+    e = o + 24;
+    for (let i = 0; i < n; i++, e += 6) quality[i] = view.getInt16(e + 4);
+    o = e;
+    out.set(tag, sortedByTime({ t, value, quality }));
+  }
   return out;
 }
 
