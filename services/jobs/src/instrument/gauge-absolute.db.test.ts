@@ -77,6 +77,12 @@ async function seedCompressorResults(
          AS u(t, pi, po, ti, tout, e)`,
     [machineId, t, pIn, pOut, tIn, tOut, eff],
   );
+  // Queued for the analysis job, as every writer of results queues what it wrote.
+  await db.pool.query(
+    `INSERT INTO analysis_pending (machine_id, from_time, to_time)
+     VALUES ($1, to_timestamp($2::float8 / 1000), to_timestamp($3::float8 / 1000))`,
+    [machineId, T0, END],
+  );
 }
 
 async function compressor(slug: string): Promise<{ id: number; tags: Record<string, number> }> {
