@@ -13,6 +13,13 @@ function finite(field: string, value: number): void {
   if (!Number.isFinite(value)) throw new BadInputError(field, `must be a finite number, got ${value}`);
 }
 
+/** An optional flow or power: absent, or finite and >= 0. */
+function nonNegative(field: string, value: number | undefined): void {
+  if (value === undefined) return;
+  finite(field, value);
+  if (value < 0) throw new BadInputError(field, `must be >= 0, got ${value}`);
+}
+
 function positive(field: string, value: number): void {
   finite(field, value);
   if (!(value > 0)) throw new BadInputError(field, `must be > 0, got ${value}`);
@@ -38,16 +45,32 @@ export function checkInput(given: MachineInput): MachineInput {
     entropyTolerance: given.entropyTolerance,
     outletFrom: given.outletFrom,
   };
-  positive('inlet.p', input.inlet.p);
-  positive('inlet.T', input.inlet.T);
-  positive('outlet.p', input.outlet.p);
-  positive('outlet.T', input.outlet.T);
-  for (const key of ['massFlow', 'volumeFlow', 'shaftPower', 'electricalPower'] as const) {
-    const value = input[key];
-    if (value === undefined) continue;
-    finite(key, value);
-    if (value < 0) throw new BadInputError(key, `must be >= 0, got ${value}`);
+  // One comparison chain for the usual case (finite and > 0; NaN fails every comparison), the
+  // checks that name the field only when it fails: four calls per evaluation made the check
+  // cost as much as the model on the compute bench (measured, 11-13 against 6-6.5 us a point).
+  const { inlet, outlet } = input;
+  if (
+    !(
+      inlet.p > 0 &&
+      inlet.p < Number.POSITIVE_INFINITY &&
+      inlet.T > 0 &&
+      inlet.T < Number.POSITIVE_INFINITY &&
+      outlet.p > 0 &&
+      outlet.p < Number.POSITIVE_INFINITY &&
+      outlet.T > 0 &&
+      outlet.T < Number.POSITIVE_INFINITY
+    )
+  ) {
+    positive('inlet.p', inlet.p);
+    positive('inlet.T', inlet.T);
+    positive('outlet.p', outlet.p);
+    positive('outlet.T', outlet.T);
   }
+  // Field by field: a loop over key names made keyed loads that cost more than the checks.
+  nonNegative('massFlow', input.massFlow);
+  nonNegative('volumeFlow', input.volumeFlow);
+  nonNegative('shaftPower', input.shaftPower);
+  nonNegative('electricalPower', input.electricalPower);
   if (input.driverEfficiency !== undefined) {
     positive('driverEfficiency', input.driverEfficiency);
     if (input.driverEfficiency > 1) {
