@@ -139,7 +139,7 @@ function encodeInProcess(
   toMs: number,
   o: ResolvedComputeOptions,
 ): { body: Buffer; rows: number } {
-  const out = new ResultCopyBody(machine.row.id, fromMs, toMs);
+  const out = new ResultCopyBody(machine.row.id, fromMs, toMs, Math.ceil((toMs - fromMs) / o.stepMs));
   computeRangeInto(machine, samples, fromMs, toMs, o, (row) => out.add(row));
   return { body: out.finish(), rows: out.rows };
 }

@@ -31,7 +31,12 @@ export function runComputeTask(task: ComputeTask): ComputeTaskResult {
     machine = prepareMachine(task.machine, defaultFluidResolver);
     prepared.set(key, machine);
   }
-  const out = new ResultCopyBody(task.machine.id, task.fromMs, task.toMs);
+  const out = new ResultCopyBody(
+    task.machine.id,
+    task.fromMs,
+    task.toMs,
+    Math.ceil((task.toMs - task.fromMs) / task.options.stepMs),
+  );
   computeRangeInto(machine, task.samples, task.fromMs, task.toMs, task.options, (row) => out.add(row));
   // The encoder's buffer belongs to this task alone, so it is moved back whole, not copied.
   return { body: out.finish(), rows: out.rows };

@@ -39,6 +39,9 @@ export const NUM_COLUMNS = [
  */
 export const RESULT_COPY_COLUMNS = `machine_id, time, ${NUM_COLUMNS.map(([c]) => c).join(', ')}, steady, flags, valid`;
 
+/** Bytes of a row with a few flags: 22 float8 fields, the key, two bools and the flags array. */
+const ROW_BYTES_TYPICAL = 2 + 8 + 12 + NUM_COLUMNS.length * 12 + 5 + 5 + 64;
+
 /** Object id of the text type (pg_type), the element type of the flags array. */
 const TEXT_OID = 25;
 const FIELDS = 2 + NUM_COLUMNS.length + 3;
@@ -53,9 +56,15 @@ const FIELDS = 2 + NUM_COLUMNS.length + 3;
  * writeXxxBE per field, measured); each distinct flag set is encoded once and copied after.
  */
 class CopyEncoder {
-  private buf = Buffer.allocUnsafe(1 << 20);
-  private view = new DataView(this.buf.buffer, this.buf.byteOffset, this.buf.byteLength);
+  private buf: Buffer;
+  private view: DataView;
   private at = 0;
+
+  /** `bytes`: the expected size, so the buffer is allocated once (it grows when exceeded). */
+  constructor(bytes = 1 << 20) {
+    this.buf = Buffer.allocUnsafe(Math.max(64, bytes));
+    this.view = new DataView(this.buf.buffer, this.buf.byteOffset, this.buf.byteLength);
+  }
   /** A flags field (length word and array) per distinct '|'-joined flag set. */
   private readonly flagFields = new Map<string, Buffer>();
 
@@ -183,14 +192,19 @@ function timestamp(v: DataView, o: number, ms: number): number {
  * encoded as it comes, so a caller that streams its rows keeps none of them alive.
  */
 export class ResultCopyBody {
-  private readonly enc = new CopyEncoder();
+  private readonly enc: CopyEncoder;
   rows = 0;
 
+  /** `expectedRows` sizes the buffer (a row of the usual flags takes about 330 bytes). */
   constructor(
     private readonly machineId: number,
     private readonly fromMs: number,
     private readonly toMs: number,
+    expectedRows?: number,
   ) {
+    this.enc = new CopyEncoder(
+      expectedRows === undefined ? undefined : 64 + expectedRows * ROW_BYTES_TYPICAL,
+    );
     this.enc.header();
   }
 
