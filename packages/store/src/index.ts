@@ -20,5 +20,6 @@ export * from './results.js';
 export * from './retention.js';
 export * from './rollups.js';
 export * from './samples-writer.js';
+export * from './transaction.js';
 export * from './trends.js';
 export * from './watermarks.js';

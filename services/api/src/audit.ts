@@ -33,21 +33,5 @@ export async function appendAudit(db: Queryable, entry: AuditEntry): Promise<voi
   );
 }
 
-/** Run `work` in one transaction on a pooled client. */
-export async function inTransaction<T>(
-  pool: pg.Pool,
-  work: (client: pg.PoolClient) => Promise<T>,
-): Promise<T> {
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN');
-    const out = await work(client);
-    await client.query('COMMIT');
-    return out;
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
-}
+/** One transaction on a pooled client (kept here for the routes that import it from the audit). */
+export { inTransaction } from '@isentrope/store';

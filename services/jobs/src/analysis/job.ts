@@ -12,6 +12,7 @@
  *     date of reaching the alarm band (packages/monitor/src/degradation.ts).
  */
 import { CAUTION, computeDrift, degradation } from '@isentrope/monitor';
+import { inTransaction } from '@isentrope/store';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
 import { runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
@@ -175,9 +176,7 @@ async function writeDrift(
       from = batch.rows < batchRows ? b : batch.lastMs + 1;
     }
   }
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN');
+  await inTransaction(pool, async (client) => {
     await client.query('DELETE FROM analysis_pending WHERE id = ANY($1::bigint[])', [
       queued.rows.map((r) => r.id),
     ]);
@@ -187,13 +186,7 @@ async function writeDrift(
          VALUES ($1, to_timestamp($2::float8 / 1000), to_timestamp($3::float8 / 1000))`,
         [machineId, a, b],
       );
-    await client.query('COMMIT');
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
+  });
   return rows;
 }
 
