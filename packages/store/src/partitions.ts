@@ -6,6 +6,7 @@
  */
 import type pg from 'pg';
 import { StoreError } from './errors.js';
+import { inTransaction } from './transaction.js';
 
 export type PartitionedTable = 'samples' | 'samples_1m' | 'samples_1h' | 'results';
 export type PartitionGrain = 'month' | 'year';
@@ -107,9 +108,7 @@ export async function ensurePartitions(
   const missing = wanted.filter((w) => !present.has(w.name));
   for (const w of wanted) if (present.has(w.name)) cache.add(w.name);
   if (missing.length === 0) return [];
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN');
+  await inTransaction(pool, async (client) => {
     // One lock for all partition DDL: creations are rare and quick.
     await client.query('SELECT pg_advisory_xact_lock(hashtext($1))', ['isentrope.partitions']);
     for (const w of missing) {
@@ -117,13 +116,7 @@ export async function ensurePartitions(
         `CREATE TABLE IF NOT EXISTS ${w.name} PARTITION OF ${table} FOR VALUES FROM ('${new Date(w.start).toISOString()}') TO ('${new Date(w.end).toISOString()}')`,
       );
     }
-    await client.query('COMMIT');
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
+  });
   for (const w of missing) cache.add(w.name);
   return missing.map((w) => w.name);
 }

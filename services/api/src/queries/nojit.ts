@@ -1,3 +1,4 @@
+import { inTransaction } from '@isentrope/store';
 import type pg from 'pg';
 
 /**
@@ -8,17 +9,9 @@ import type pg from 'pg';
  * shared pool is left as it was.
  */
 export async function withoutJit<T>(pool: pg.Pool, read: (client: pg.PoolClient) => Promise<T>): Promise<T> {
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN READ ONLY');
+  return inTransaction(pool, async (client) => {
+    await client.query('SET TRANSACTION READ ONLY');
     await client.query('SET LOCAL jit = off');
-    const out = await read(client);
-    await client.query('COMMIT');
-    return out;
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
+    return read(client);
+  });
 }

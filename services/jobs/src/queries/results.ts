@@ -3,50 +3,16 @@
  * through unnest arrays (one statement per batch; works the same on every PostgreSQL).
  * Written here until packages/store exports its own writer.
  */
+import { ensurePartitions } from '@isentrope/store';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
 import type { ResultRow } from '../compute/pipeline.js';
 import type { Queryable } from './machines.js';
 import { encodeResultRows, NUM_COLUMNS, RESULT_COPY_COLUMNS } from './results-copy.js';
 
-/** Monthly partitions of `results`, named as packages/store names them (results_pYYYY_MM). */
-const knownPartitions = new WeakMap<object, Set<string>>();
-
+/** Monthly partitions of `results` for [fromMs, toMs]: the store's partition mechanism (cached, one lock). */
 export async function ensureResultPartitions(pool: pg.Pool, fromMs: number, toMs: number): Promise<void> {
-  let known = knownPartitions.get(pool);
-  if (known === undefined) {
-    known = new Set();
-    knownPartitions.set(pool, known);
-  }
-  const d = new Date(fromMs);
-  for (
-    let k = d.getUTCFullYear() * 12 + d.getUTCMonth();
-    Date.UTC(Math.floor(k / 12), k % 12, 1) <= toMs;
-    k++
-  ) {
-    const y = Math.floor(k / 12);
-    const m = k % 12;
-    const name = `results_p${String(y).padStart(4, '0')}_${String(m + 1).padStart(2, '0')}`;
-    if (known.has(name)) continue;
-    const start = new Date(Date.UTC(y, m, 1)).toISOString();
-    const end = new Date(Date.UTC(y, m + 1, 1)).toISOString();
-    const client = await pool.connect();
-    try {
-      await client.query('BEGIN');
-      // The store's lock for partition DDL, so writers never collide on the catalog.
-      await client.query('SELECT pg_advisory_xact_lock(hashtext($1))', ['isentrope.partitions']);
-      await client.query(
-        `CREATE TABLE IF NOT EXISTS ${name} PARTITION OF results FOR VALUES FROM ('${start}') TO ('${end}')`,
-      );
-      await client.query('COMMIT');
-    } catch (error) {
-      await client.query('ROLLBACK').catch(() => {});
-      throw error;
-    } finally {
-      client.release();
-    }
-    known.add(name);
-  }
+  await ensurePartitions(pool, 'results', fromMs, toMs);
 }
 
 /** Queues a range of written results for the analysis job (analysis_pending, migrations/0007). */
