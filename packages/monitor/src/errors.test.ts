@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { CAUTION } from './caution.js';
 import {
   LengthMismatchError,
-  MONITOR_ERROR_CODES,
+  MONITOR_ERRORS,
   MonitorBadInputError,
   SingularFitError,
   TooFewPointsError,
@@ -20,7 +20,7 @@ describe('errors', () => {
     ];
     const codes = errors.map((e) => e.code);
     expect(new Set(codes).size).toBe(codes.length);
-    expect(codes.sort()).toEqual(Object.keys(MONITOR_ERROR_CODES).sort());
+    expect(codes.sort()).toEqual(Object.keys(MONITOR_ERRORS).sort());
     expect(errors[2]).toMatchObject({ have: 2, need: 9 });
     expect(errors[0]!.message).toContain('-1');
   });

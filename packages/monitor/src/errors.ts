@@ -3,21 +3,43 @@
  * the API turns them into HTTP problems by code, never by parsing the message.
  */
 
-export type MonitorErrorCode =
-  | 'MONITOR_BAD_INPUT'
-  | 'MONITOR_UNSORTED_TIMES'
-  | 'MONITOR_TOO_FEW_POINTS'
-  | 'MONITOR_LENGTH_MISMATCH'
-  | 'MONITOR_SINGULAR_FIT';
+import { type ErrorCatalog, formatError, type TemplateParams } from '@isentrope/errors';
 
-/** Every code with a one-line description; a test checks that each code is documented here. */
-export const MONITOR_ERROR_CODES: Readonly<Record<MonitorErrorCode, string>> = {
-  MONITOR_BAD_INPUT: 'An option or input value is not allowed (the field and the reason are given).',
-  MONITOR_UNSORTED_TIMES: 'Sample times of a series must be non-decreasing.',
-  MONITOR_TOO_FEW_POINTS: 'Too few usable points for the requested statistic or fit.',
-  MONITOR_LENGTH_MISMATCH: 'Parallel arrays of one series have different lengths.',
-  MONITOR_SINGULAR_FIT: 'The least-squares system is singular (too few distinct operating points).',
-};
+/** Every code of packages/monitor, once; see ERRORS.md. The API answers them with 422. */
+export const MONITOR_ERRORS = {
+  MONITOR_BAD_INPUT: {
+    meaning: 'An option or input value is not allowed (the field and the reason are given).',
+    template: '{field} = {value}: {reason}',
+    status: 422,
+  },
+  MONITOR_UNSORTED_TIMES: {
+    meaning: 'Sample times of a series must be non-decreasing.',
+    template:
+      '{series}: time at index {index} ({timeMs} ms) is earlier than the one before ({previousMs} ms); sort the samples by time first.',
+    status: 422,
+  },
+  MONITOR_TOO_FEW_POINTS: {
+    meaning: 'Too few usable points for the requested statistic or fit.',
+    template: '{what}: {have} usable points, at least {need} needed.',
+    status: 422,
+  },
+  MONITOR_LENGTH_MISMATCH: {
+    meaning: 'Parallel arrays of one series have different lengths.',
+    template: '{what}: length {actual}, expected {expected}.',
+    status: 422,
+  },
+  MONITOR_SINGULAR_FIT: {
+    meaning: 'The least-squares system is singular (too few distinct operating points).',
+    template: '{what}: {distinctX} distinct operating points cannot fix a polynomial of degree {degree}.',
+    status: 422,
+  },
+} as const satisfies ErrorCatalog;
+
+export type MonitorErrorCode = keyof typeof MONITOR_ERRORS;
+
+function monitorMessage(code: MonitorErrorCode, params: TemplateParams): string {
+  return formatError(MONITOR_ERRORS, code, params);
+}
 
 export abstract class MonitorError extends Error {
   abstract readonly code: MonitorErrorCode;
@@ -31,7 +53,7 @@ export class MonitorBadInputError extends MonitorError {
     readonly value: unknown,
     readonly reason: string,
   ) {
-    super(`${field} = ${String(value)}: ${reason}`);
+    super(monitorMessage('MONITOR_BAD_INPUT', { field, value: String(value), reason }));
     this.name = 'MonitorBadInputError';
   }
 }
@@ -45,10 +67,7 @@ export class UnsortedTimesError extends MonitorError {
     readonly previousMs: number,
     readonly timeMs: number,
   ) {
-    super(
-      `${series}: time at index ${index} (${timeMs} ms) is earlier than the one before (${previousMs} ms); ` +
-        'sort the samples by time first.',
-    );
+    super(monitorMessage('MONITOR_UNSORTED_TIMES', { series, index, timeMs, previousMs }));
     this.name = 'UnsortedTimesError';
   }
 }
@@ -61,7 +80,7 @@ export class TooFewPointsError extends MonitorError {
     readonly have: number,
     readonly need: number,
   ) {
-    super(`${what}: ${have} usable points, at least ${need} needed.`);
+    super(monitorMessage('MONITOR_TOO_FEW_POINTS', { what, have, need }));
     this.name = 'TooFewPointsError';
   }
 }
@@ -74,7 +93,7 @@ export class LengthMismatchError extends MonitorError {
     readonly expected: number,
     readonly actual: number,
   ) {
-    super(`${what}: length ${actual}, expected ${expected}.`);
+    super(monitorMessage('MONITOR_LENGTH_MISMATCH', { what, actual, expected }));
     this.name = 'LengthMismatchError';
   }
 }
@@ -87,7 +106,7 @@ export class SingularFitError extends MonitorError {
     readonly distinctX: number,
     readonly degree: number,
   ) {
-    super(`${what}: ${distinctX} distinct operating points cannot fix a polynomial of degree ${degree}.`);
+    super(monitorMessage('MONITOR_SINGULAR_FIT', { what, distinctX, degree }));
     this.name = 'SingularFitError';
   }
 }

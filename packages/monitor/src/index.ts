@@ -8,7 +8,7 @@
  *   -> buildMonthlyReport -> renderReportCsv / Json / Html.
  * Conventions: values in SI; efficiencies are fractions [-]; drift and degradation rates are in
  * points of efficiency [%-points] (1 point = 0.01), negative = loss. Errors are MonitorError
- * subclasses with a stable `code` (MONITOR_ERROR_CODES). Show CAUTION beside every figure.
+ * subclasses with a stable `code` (MONITOR_ERRORS). Show CAUTION beside every figure.
  */
 
 export * from './alerts.js';

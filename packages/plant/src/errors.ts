@@ -1,6 +1,21 @@
 /** Errors of the plant package: data first (code, file, each problem with its path). */
+import { type ErrorCatalog, formatError } from '@isentrope/errors';
 
-export type PlantErrorCode = 'PLANT_FILE_INVALID' | 'PLANT_FILE_UNREADABLE';
+/** Every code of packages/plant, once; see ERRORS.md. */
+export const PLANT_ERRORS = {
+  PLANT_FILE_INVALID: {
+    meaning: 'The plant file does not match the plant schema; every problem is listed with its path.',
+    template: '{fileName}: {count} problem{plural}\n{problems}',
+    status: 400,
+  },
+  PLANT_FILE_UNREADABLE: {
+    meaning: 'The plant file cannot be read or is not YAML.',
+    template: '{fileName}: {count} problem{plural}\n{problems}',
+    status: 400,
+  },
+} as const satisfies ErrorCatalog;
+
+export type PlantErrorCode = keyof typeof PLANT_ERRORS;
 
 /** One problem in a plant file: where it is (e.g. "machines[2].tags[0].unit") and what is wrong. */
 export interface PlantFileIssue {
@@ -17,8 +32,12 @@ export class PlantFileError extends Error {
     code: PlantErrorCode = 'PLANT_FILE_INVALID',
   ) {
     super(
-      `${fileName}: ${issues.length} problem${issues.length === 1 ? '' : 's'}\n` +
-        issues.map((i) => `  ${i.path === '' ? '(file)' : i.path}: ${i.message}`).join('\n'),
+      formatError(PLANT_ERRORS, code, {
+        fileName,
+        count: issues.length,
+        plural: issues.length === 1 ? '' : 's',
+        problems: issues.map((i) => `  ${i.path === '' ? '(file)' : i.path}: ${i.message}`).join('\n'),
+      }),
     );
     this.name = 'PlantFileError';
     this.code = code;

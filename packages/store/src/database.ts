@@ -1,5 +1,6 @@
 import pg from 'pg';
 import { type EmbeddedServer, startEmbeddedPostgres } from './embedded.js';
+import type { StoreErrorCode } from './errors.js';
 
 /** Where the data lives: a PostgreSQL the operator runs, or the one this process runs. */
 export type DatabaseKind = 'external' | 'embedded';
@@ -83,7 +84,7 @@ export async function openDatabase(options: OpenDatabaseOptions): Promise<Databa
 }
 
 export class DatabaseUnreachableError extends Error {
-  readonly code = 'STORE_DATABASE_UNREACHABLE';
+  readonly code: StoreErrorCode = 'STORE_DATABASE_UNREACHABLE';
   constructor(
     readonly url: string,
     readonly reason: string,

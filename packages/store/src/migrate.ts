@@ -1,6 +1,7 @@
 import { fileURLToPath } from 'node:url';
 import { runner } from 'node-pg-migrate';
 import type pg from 'pg';
+import type { StoreErrorCode } from './errors.js';
 
 /** The repository's migrations folder: plain numbered SQL files. */
 export const MIGRATIONS_DIR = fileURLToPath(new URL('../../../migrations', import.meta.url));
@@ -15,7 +16,7 @@ export interface MigrationReport {
 
 /** A migration failed: the file and the database's own message, so the fix is obvious. */
 export class MigrationError extends Error {
-  readonly code = 'STORE_MIGRATION_FAILED';
+  readonly code: StoreErrorCode = 'STORE_MIGRATION_FAILED';
   constructor(
     readonly migration: string | undefined,
     readonly databaseMessage: string,

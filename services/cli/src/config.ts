@@ -1,5 +1,7 @@
 import { resolve } from 'node:path';
+import { formatError } from '@isentrope/errors';
 import { z } from 'zod';
+import { CLI_ERRORS, type CliErrorCode } from './errors.js';
 import { DEFAULT_STOP_DEADLINE_MS } from './lifecycle.js';
 
 /**
@@ -101,18 +103,21 @@ export interface Config {
 }
 
 export class ConfigError extends Error {
-  readonly code = 'CONFIG_INVALID';
+  readonly code: CliErrorCode = 'CONFIG_INVALID';
   constructor(
     readonly problems: readonly { variable: string; value: string | undefined; problem: string }[],
   ) {
     super(
-      `The environment has ${problems.length} bad setting${problems.length === 1 ? '' : 's'}:\n` +
-        problems
+      formatError(CLI_ERRORS, 'CONFIG_INVALID', {
+        count: problems.length,
+        plural: problems.length === 1 ? '' : 's',
+        problems: problems
           .map(
             (p) =>
               `  ${p.variable}=${p.value === undefined ? '(unset)' : JSON.stringify(p.value)}: ${p.problem}`,
           )
           .join('\n'),
+      }),
     );
     this.name = 'ConfigError';
   }

@@ -1,23 +1,32 @@
 /**
  * Errors of the ingest service: a stable code, the values involved, and a readable message.
- * Codes are never reused; each is documented in INGEST_ERROR_CODES (tested).
+ * Codes are never reused; each is documented in INGEST_ERRORS and ERRORS.md (tested).
  */
+import type { ErrorCatalog } from '@isentrope/errors';
 
-export const INGEST_ERROR_CODES = {
-  INGEST_FILE_UNREADABLE:
-    'The file could not be read at all (empty, no header, wrong layout); it goes to the rejected folder.',
-  INGEST_BAD_OPTIONS: 'A source option is invalid (time zone, delimiter, time format).',
-  INGEST_UNKNOWN_SOURCE: 'No source with this id in the plant file.',
-  INGEST_BUFFER_FULL: 'The on-disk buffer reached its size limit; the newest samples were refused.',
-  INGEST_BUFFER_CORRUPT: 'A buffer segment holds a line that cannot be read back.',
-  INGEST_WRITE_FAILED: 'Writing samples to the database failed.',
-  INGEST_OPCUA_CONNECT: 'Could not connect to the OPC UA endpoint.',
-  INGEST_STOPPED: 'The ingest service was stopped.',
-  INGEST_UNAUTHORIZED: 'HTTP push without a valid bearer token (401).',
-  INGEST_BAD_BATCH: 'HTTP push body is not a JSON array of samples, or too large (400/413).',
-} as const;
+/** Every code of services/ingest, once; see ERRORS.md. Messages are written where raised. */
+export const INGEST_ERRORS = {
+  INGEST_FILE_UNREADABLE: {
+    meaning:
+      'The file could not be read at all (empty, no header, wrong layout); it goes to the rejected folder.',
+  },
+  INGEST_BAD_OPTIONS: { meaning: 'A source option is invalid (time zone, delimiter, time format).' },
+  INGEST_UNKNOWN_SOURCE: { meaning: 'No source with this id in the plant file.' },
+  INGEST_BUFFER_FULL: {
+    meaning: 'The on-disk buffer reached its size limit; the newest samples were refused.',
+  },
+  INGEST_BUFFER_CORRUPT: { meaning: 'A buffer segment holds a line that cannot be read back.' },
+  INGEST_WRITE_FAILED: { meaning: 'Writing samples to the database failed.' },
+  INGEST_OPCUA_CONNECT: { meaning: 'Could not connect to the OPC UA endpoint.' },
+  INGEST_STOPPED: { meaning: 'The ingest service was stopped.' },
+  INGEST_UNAUTHORIZED: { meaning: 'HTTP push without a valid bearer token (401).', status: 401 },
+  INGEST_BAD_BATCH: {
+    meaning: 'HTTP push body is not a JSON array of samples, or too large (400/413).',
+    status: 400,
+  },
+} as const satisfies ErrorCatalog;
 
-export type IngestErrorCode = keyof typeof INGEST_ERROR_CODES;
+export type IngestErrorCode = keyof typeof INGEST_ERRORS;
 
 export class IngestError extends Error {
   constructor(

@@ -1,28 +1,27 @@
 /**
  * Errors of the jobs service: a stable code, the values involved, a readable message.
- * Codes are never reused; JOBS_ERROR_CODES documents each one.
+ * Codes are never reused; JOBS_ERRORS documents each one (and ERRORS.md).
  */
 
-export type JobsErrorCode =
-  | 'JOBS_BAD_CONFIG'
-  | 'JOBS_FLUID_UNAVAILABLE'
-  | 'JOBS_BAD_RANGE'
-  | 'JOBS_NOT_FOUND'
-  | 'JOBS_ALERT_REJECTED'
-  | 'JOBS_REPORT_UNAVAILABLE'
-  | 'JOBS_BAD_SAMPLES';
+import type { ErrorCatalog } from '@isentrope/errors';
 
-export const JOBS_ERROR_CODES: Readonly<Record<JobsErrorCode, string>> = {
-  JOBS_BAD_CONFIG:
-    "A machine's or tag's configuration cannot be used for computing (the field and value are given).",
-  JOBS_FLUID_UNAVAILABLE: 'The property model the machine needs is not available in this build.',
-  JOBS_BAD_RANGE: 'A time range is empty, reversed or not finite.',
-  JOBS_NOT_FOUND: 'The machine or alert asked for does not exist.',
-  JOBS_ALERT_REJECTED: 'The alert lifecycle refused the action (the reducer code is given).',
-  JOBS_REPORT_UNAVAILABLE: 'The monthly report builder is not wired in; no report was made.',
-  JOBS_BAD_SAMPLES:
-    'The database sent sample rows in a form the reader does not expect (the offset is given).',
-};
+/** Every code of services/jobs, once; see ERRORS.md. Messages are written where raised. */
+export const JOBS_ERRORS = {
+  JOBS_BAD_CONFIG: {
+    meaning:
+      "A machine's or tag's configuration cannot be used for computing (the field and value are given).",
+  },
+  JOBS_FLUID_UNAVAILABLE: { meaning: 'The property model the machine needs is not available in this build.' },
+  JOBS_BAD_RANGE: { meaning: 'A time range is empty, reversed or not finite.' },
+  JOBS_NOT_FOUND: { meaning: 'The machine or alert asked for does not exist.' },
+  JOBS_ALERT_REJECTED: { meaning: 'The alert lifecycle refused the action (the reducer code is given).' },
+  JOBS_REPORT_UNAVAILABLE: { meaning: 'The monthly report builder is not wired in; no report was made.' },
+  JOBS_BAD_SAMPLES: {
+    meaning: 'The database sent sample rows in a form the reader does not expect (the offset is given).',
+  },
+} as const satisfies ErrorCatalog;
+
+export type JobsErrorCode = keyof typeof JOBS_ERRORS;
 
 export class JobsError extends Error {
   constructor(

@@ -1,4 +1,4 @@
-import { ThermoError } from '../errors.js';
+import { ThermoError, thermoMessage } from '../errors.js';
 
 /** A species name (or alias) that the gas tables do not hold. */
 export class UnknownSpeciesError extends ThermoError {
@@ -8,7 +8,7 @@ export class UnknownSpeciesError extends ThermoError {
     /** Accepted species names with their aliases, e.g. "n-C4H10 (nC4, butane, n-butane)". */
     readonly accepted: readonly string[],
   ) {
-    super(`Unknown gas species "${species}". Accepted: ${accepted.join('; ')}.`);
+    super(thermoMessage('GAS_UNKNOWN_SPECIES', { species, accepted: accepted.join('; ') }));
     this.name = 'UnknownSpeciesError';
   }
 }
@@ -25,9 +25,7 @@ export class CompositionSumError extends ThermoError {
     readonly reason?: string,
   ) {
     super(
-      reason ??
-        `Mole fractions add up to ${sum}, expected ${expected} within ${tolerance * 100} %: ` +
-          'check the gas analysis (a missing or doubled component?).',
+      reason ?? thermoMessage('GAS_COMPOSITION_SUM', { sum, expected, tolerancePercent: tolerance * 100 }),
     );
     this.name = 'CompositionSumError';
   }
@@ -54,10 +52,7 @@ export class GasStateUndeterminedError extends ThermoError {
     readonly above: number,
     readonly model: string,
   ) {
-    super(
-      `${quantity} = ${value} ${unit} at p = ${p} Pa falls in a step of ${model} at T = ${T} K ` +
-        `(from ${below} to ${above} ${unit}): a condensing state, outside this single-phase gas model.`,
-    );
+    super(thermoMessage('THERMO_STATE_UNDETERMINED', { quantity, value, unit, p, T, below, above, model }));
     this.name = 'GasStateUndeterminedError';
   }
 }

@@ -1,4 +1,4 @@
-import { ThermoError } from '../errors.js';
+import { ThermoError, thermoMessage } from '../errors.js';
 
 /** A unit string that is not in the table (or is ambiguous, like bare "psi"). */
 export class UnitUnknownError extends ThermoError {
@@ -11,7 +11,9 @@ export class UnitUnknownError extends ThermoError {
     /** Why it was refused, when there is more to say than "unknown". */
     readonly hint?: string,
   ) {
-    super(`Unknown unit "${unit}". ${hint ? `${hint} ` : ''}Accepted: ${accepted.join(', ')}.`);
+    super(
+      thermoMessage('UNIT_UNKNOWN', { unit, hint: hint ? `${hint} ` : '', accepted: accepted.join(', ') }),
+    );
     this.name = 'UnitUnknownError';
   }
 }
@@ -23,10 +25,7 @@ export class AmbientPressureRequiredError extends ThermoError {
     readonly unit: string,
     readonly value: number,
   ) {
-    super(
-      `${value} ${unit} is a gauge pressure: give the ambient pressure [Pa] (configured, or a barometer tag) ` +
-        'to turn it into an absolute pressure.',
-    );
+    super(thermoMessage('UNIT_AMBIENT_REQUIRED', { value, unit }));
     this.name = 'AmbientPressureRequiredError';
   }
 }
@@ -39,7 +38,7 @@ export class BadQuantityError extends ThermoError {
     readonly input: string,
     readonly reason: string,
   ) {
-    super(`"${input}": ${reason}`);
+    super(thermoMessage('UNIT_BAD_QUANTITY', { input, reason }));
     this.name = 'BadQuantityError';
   }
 }

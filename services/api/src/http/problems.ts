@@ -3,6 +3,9 @@
  * stable code from the registry (src/errors.ts). Library errors (monitor, thermo) carry their own
  * stable code, passed on in `reason`; nothing is parsed from a message.
  */
+
+import { MONITOR_ERRORS } from '@isentrope/monitor';
+import { THERMO_ERRORS } from '@isentrope/thermo';
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
 import { hasZodFastifySchemaValidationErrors } from 'fastify-type-provider-zod';
 import { ApiError, type ProblemFieldError, toProblem } from '../errors.js';
@@ -57,8 +60,9 @@ export function asApiError(error: unknown, requestId: string): ApiError {
       case '08006':
         return new ApiError('API_DATABASE_UNAVAILABLE', { reason: fe.code });
     }
-    // Typed errors of our pure packages: the computation cannot be made with these inputs.
-    if (/^(MONITOR|THERMO|UNIT|GAS)_/.test(fe.code))
+    // Typed errors of our pure packages (their catalogs give 422): the computation cannot be made
+    // with these inputs.
+    if (Object.hasOwn(THERMO_ERRORS, fe.code) || Object.hasOwn(MONITOR_ERRORS, fe.code))
       return new ApiError('API_UNPROCESSABLE', { reason: `${fe.code}: ${fe.message}` });
   }
   return new ApiError('API_INTERNAL', { requestId });

@@ -1,4 +1,5 @@
 import { readFile } from 'node:fs/promises';
+import { formatError } from '@isentrope/errors';
 import {
   dryAir,
   evaluateMachineWithUncertainty,
@@ -22,6 +23,7 @@ import {
   water,
 } from '@isentrope/thermo';
 import { z } from 'zod';
+import { CLI_ERRORS, type CliErrorCode } from '../errors.js';
 
 /**
  * `isentrope calc`: one machine case from a JSON file (or stdin) to its efficiency, work, power
@@ -87,8 +89,13 @@ export type CalcCase = z.infer<typeof caseSchema>;
 
 /** A problem with the case, named by its path (e.g. "inlet.p"). */
 export class CaseError extends Error {
+  readonly code: CliErrorCode = 'CLI_BAD_CASE';
   constructor(readonly problems: readonly { readonly path: string; readonly message: string }[]) {
-    super(problems.map((p) => `${p.path === '' ? '(case)' : p.path}: ${p.message}`).join('\n'));
+    super(
+      formatError(CLI_ERRORS, 'CLI_BAD_CASE', {
+        problems: problems.map((p) => `${p.path === '' ? '(case)' : p.path}: ${p.message}`).join('\n'),
+      }),
+    );
     this.name = 'CaseError';
   }
 }
