@@ -1,5 +1,5 @@
 import type { FastifyInstance, FastifyPluginAsync } from 'fastify';
-import type { ApiContext } from '../app.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { principalForSecret, requireRole, TOKEN_PREFIX } from './credentials.js';
 import type { Principal } from './roles.js';

@@ -1,6 +1,5 @@
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
 import {
   checkLogin,
@@ -21,6 +20,7 @@ import {
 import { hashPassword } from '../auth/passwords.js';
 import { SESSION_COOKIE } from '../auth/plugin.js';
 import { hasRole, ROLES } from '../auth/roles.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam, problemSchema } from '../http/schemas.js';
 

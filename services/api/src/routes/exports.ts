@@ -16,8 +16,8 @@ import {
 } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit } from '../audit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import {
   decodeCursor,

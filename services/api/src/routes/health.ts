@@ -1,7 +1,7 @@
 import { migrationLevel } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiDependencies } from '../app.js';
+import type { ApiDependencies } from '../context.js';
 
 const healthResponse = z.object({
   status: z.enum(['ok', 'degraded']),

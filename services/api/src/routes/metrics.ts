@@ -1,5 +1,5 @@
 import type { FastifyPluginAsync } from 'fastify';
-import type { ApiContext } from '../app.js';
+import type { ApiContext } from '../context.js';
 
 /**
  * GET /metrics in the Prometheus text format: the API's request counter and latency histogram
