@@ -23,6 +23,7 @@ import {
 } from 'fastify-type-provider-zod';
 import { ensureInitialAdmin } from './auth/credentials.js';
 import { authPlugin } from './auth/plugin.js';
+import { answerUndecodableUrl, installRequestScreen } from './auth/request-screen.js';
 import type { ApiContext, ApiDependencies } from './context.js';
 import { installErrorHandling } from './http/problems.js';
 import { createMetricsRegistry } from './metrics.js';
@@ -67,12 +68,19 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     bodyLimit: deps.bodyLimit ?? 1024 * 1024,
     // Our error handler reports the id in problems; keep it short and unique per process.
     requestIdHeader: false,
+    // Forwarded headers count only from the configured proxies (request.ip, .protocol, .host).
+    trustProxy: deps.trustProxy === undefined ? false : [...deps.trustProxy],
+    frameworkErrors: answerUndecodableUrl,
   }).withTypeProvider<ZodTypeProvider>();
   app.setValidatorCompiler(validatorCompiler);
   app.setSerializerCompiler(serializerCompiler);
   // Only JSON bodies: a cross-site HTML form cannot send one without a CORS preflight.
   app.removeContentTypeParser('text/plain');
   installErrorHandling(app);
+  installRequestScreen(app, {
+    publicHosts: deps.publicHosts ?? [],
+    listenHost: deps.listenHost ?? '127.0.0.1',
+  });
   const unschemed: string[] = [];
   app.decorate('unschemedRoutes', unschemed);
   app.addHook('onRoute', (route) => {

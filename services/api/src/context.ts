@@ -23,10 +23,18 @@ export interface ApiDependencies {
   /** Epoch ms when the process started. */
   readonly startedAt: number;
   /**
-   * Role given to requests without credentials. undefined (the production default) = login
-   * required; 'viewer' or 'engineer' only for a local demo bound to 127.0.0.1.
+   * Role given to requests without credentials: undefined (the production default) = sign-in
+   * required; 'viewer' = read without signing in. Never more: every change needs a signed-in user.
    */
-  readonly anonymousRole?: 'viewer' | 'engineer' | undefined;
+  readonly anonymousRole?: 'viewer' | undefined;
+  /** Address the server listens on (HOST); decides which Host headers are answered. Default 127.0.0.1. */
+  readonly listenHost?: string | undefined;
+  /** Host names (optionally ':port') answered besides loopback names (ISENTROPE_PUBLIC_HOST). */
+  readonly publicHosts?: readonly string[] | undefined;
+  /** Proxies whose X-Forwarded-For/-Proto/-Host are believed (fastify trustProxy); default none. */
+  readonly trustProxy?: readonly string[] | undefined;
+  /** Bearer token GET /metrics asks for; undefined = /metrics is public. */
+  readonly metricsToken?: string | undefined;
   /** ISENTROPE_ADMIN_PASSWORD: password of the first admin; generated and logged once when absent. */
   readonly adminPassword?: string | undefined;
   /**
@@ -42,8 +50,8 @@ export interface ApiDependencies {
   readonly metrics?: MetricsRegistry | undefined;
   /** Requests per client and window; false turns the limit off (benchmarks). Default 1200 per minute. */
   readonly rateLimit?: { readonly max: number; readonly timeWindowMs: number } | false | undefined;
-  /** Set the Secure flag on the session cookie (behind HTTPS). Default false. */
-  readonly cookieSecure?: boolean | undefined;
+  /** Secure flag of the session cookie: 'auto' (default) = when the request came over https. */
+  readonly cookieSecure?: 'auto' | 'always' | 'never' | undefined;
   /** Energy price for the monthly export's cost column. */
   readonly energyPrice?: { readonly perMWh: number; readonly currency: string } | undefined;
   /** Body-size limit [bytes]; default 1 MiB. */

@@ -59,6 +59,11 @@ export const API_ERRORS = {
     title: 'New password is the current one',
     template: 'The new password is the same as the current one; choose a different password.',
   },
+  API_BAD_METRICS_TOKEN: {
+    status: 401,
+    title: 'Metrics token required',
+    template: 'GET /metrics needs the metrics token (Authorization: Bearer ..., ISENTROPE_METRICS_TOKEN).',
+  },
   API_FORBIDDEN: {
     status: 403,
     title: 'Not allowed',
@@ -102,6 +107,18 @@ export const API_ERRORS = {
     status: 429,
     title: 'Too many requests',
     template: 'Rate limit of {max} requests per {window} reached; retry in {after}.',
+  },
+  API_SIGN_IN_LIMITED: {
+    status: 429,
+    title: 'Too many failed sign-ins',
+    template:
+      'Too many failed sign-ins for this account ({max} in {windowMinutes} min); retry in {retryAfterS} s, or ask an administrator to set a new password.',
+  },
+  API_MISDIRECTED_HOST: {
+    status: 421,
+    title: 'Host not served here',
+    template:
+      'This server does not answer to the host "{host}"; open it by a name in ISENTROPE_PUBLIC_HOST, or by localhost on this machine.',
   },
   API_EXPORT_NOT_READY: {
     status: 409,

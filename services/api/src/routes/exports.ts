@@ -190,7 +190,8 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
   app.post(
     '/exports',
     {
-      config: { role: 'viewer' },
+      // Making an export computes a month and stores it: an engineer's action (README, "Security").
+      config: { role: 'engineer' },
       schema: {
         tags: ['exports'],
         summary: 'Make the monthly degradation export now (CSV, JSON or printable HTML) and store it',
