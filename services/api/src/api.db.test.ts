@@ -3,8 +3,7 @@ import { createTestDatabase, type TestDatabase } from '../../../test/support/dat
 import type { ApiApp } from './app.js';
 import { buildTestApp } from './test-support/app.js';
 import {
-  createToken,
-  createUser,
+  createRoleTokens,
   insertAlert,
   insertComputedResult,
   insertResults,
@@ -22,18 +21,14 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
   let db: TestDatabase;
   let app: ApiApp;
   let plant: SeededPlant;
-  const tokens: Record<'viewer' | 'engineer' | 'admin', string> = { viewer: '', engineer: '', admin: '' };
+  let tokens: Record<'viewer' | 'engineer' | 'admin', string> = { viewer: '', engineer: '', admin: '' };
   const auth = (role: keyof typeof tokens) => ({ authorization: `Bearer ${tokens[role]}` });
   const t0 = Date.UTC(2026, 2, 1);
 
   beforeAll(async () => {
     db = await createTestDatabase();
     plant = await seedPlant(db.pool);
-    for (const role of ['viewer', 'engineer', 'admin'] as const)
-      tokens[role] = await createToken(
-        db.pool,
-        await createUser(db.pool, `${role}1`, role, `${role}-password-1`),
-      );
+    tokens = await createRoleTokens(db.pool);
     await setBands(db.pool, plant.compressorId, 2, 4);
     // Baseline eta = 0.80 + 0.05 x (x = load fraction), invented.
     await setBaseline(db.pool, plant.compressorId, [0.8, 0.05], 0.4, 1);

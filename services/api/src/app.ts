@@ -21,13 +21,12 @@ import {
   validatorCompiler,
   type ZodTypeProvider,
 } from 'fastify-type-provider-zod';
-import type pg from 'pg';
-import type { Logger } from 'pino';
 import { ensureInitialAdmin } from './auth/credentials.js';
 import { authPlugin } from './auth/plugin.js';
-import type { Principal, Role } from './auth/roles.js';
+import { answerUndecodableUrl, installRequestScreen } from './auth/request-screen.js';
+import type { ApiContext, ApiDependencies } from './context.js';
 import { installErrorHandling } from './http/problems.js';
-import { createMetricsRegistry, type MetricsRegistry } from './metrics.js';
+import { createMetricsRegistry } from './metrics.js';
 import { alertRoutes } from './routes/alerts.js';
 import { authRoutes } from './routes/auth.js';
 import { baselineRoutes } from './routes/baselines.js';
@@ -41,54 +40,7 @@ import { plantRoutes } from './routes/plant.js';
 import { quarantineRoutes } from './routes/quarantine.js';
 import { resultRoutes } from './routes/results.js';
 
-/**
- * A plugin another service mounts in this app (e.g. the ingest service's HTTP push routes):
- * a function that registers it, so each plugin keeps its own option type.
- */
-export type MountedPlugin = (app: FastifyInstance) => Promise<void>;
-
-export interface ApiDependencies {
-  readonly pool: pg.Pool;
-  readonly database: { readonly kind: 'external' | 'embedded'; readonly displayUrl: string };
-  readonly logger: Logger;
-  readonly version: string;
-  /** Epoch ms when the process started. */
-  readonly startedAt: number;
-  /**
-   * Role given to requests without credentials. undefined (the production default) = login
-   * required; 'viewer' or 'engineer' only for a local demo bound to 127.0.0.1.
-   */
-  readonly anonymousRole?: 'viewer' | 'engineer' | undefined;
-  /** ISENTROPE_ADMIN_PASSWORD: password of the first admin; generated and logged once when absent. */
-  readonly adminPassword?: string | undefined;
-  /**
-   * Tells the operator a generated first-admin password, once, in place of the log line (the CLI
-   * also writes it to a file in the data directory). Must not throw: the password exists nowhere else.
-   */
-  readonly announceGeneratedAdminPassword?:
-    | ((admin: { readonly username: string; readonly password: string }) => Promise<void>)
-    | undefined;
-  /** Extra plugins to mount, each under its prefix. */
-  readonly plugins?: readonly MountedPlugin[] | undefined;
-  /** Shared metrics registry (other services add gauges); one is made when absent. */
-  readonly metrics?: MetricsRegistry | undefined;
-  /** Requests per client and window; false turns the limit off (benchmarks). Default 1200 per minute. */
-  readonly rateLimit?: { readonly max: number; readonly timeWindowMs: number } | false | undefined;
-  /** Set the Secure flag on the session cookie (behind HTTPS). Default false. */
-  readonly cookieSecure?: boolean | undefined;
-  /** Energy price for the monthly export's cost column. */
-  readonly energyPrice?: { readonly perMWh: number; readonly currency: string } | undefined;
-  /** Body-size limit [bytes]; default 1 MiB. */
-  readonly bodyLimit?: number | undefined;
-  /** Clock [ms]; tests may fix it. */
-  readonly now?: (() => number) | undefined;
-}
-
-/** What the route plugins get: the dependencies with the defaults filled in. */
-export interface ApiContext extends ApiDependencies {
-  readonly metrics: MetricsRegistry;
-  readonly now: () => number;
-}
+export type { ApiContext, ApiDependencies, MountedPlugin } from './context.js';
 
 /** The HTTP application: one plugin per resource, the pool and the logger given once here. */
 export type ApiApp = FastifyInstance<
@@ -98,21 +50,6 @@ export type ApiApp = FastifyInstance<
   FastifyBaseLogger,
   ZodTypeProvider
 >;
-
-declare module 'fastify' {
-  interface FastifyRequest {
-    /** Who is calling; undefined when not signed in and no anonymous role is configured. */
-    principal: Principal | undefined;
-  }
-  interface FastifyInstance {
-    /** API routes registered without a schema (a test keeps this empty). */
-    readonly unschemedRoutes: readonly string[];
-  }
-  interface FastifyContextConfig {
-    /** Least role the route needs; 'public' for health, login, docs and static files. Default 'viewer'. */
-    role?: Role | 'public';
-  }
-}
 
 const here = dirname(fileURLToPath(import.meta.url));
 /** services/api/public: the dashboard's static files. */
@@ -131,12 +68,19 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     bodyLimit: deps.bodyLimit ?? 1024 * 1024,
     // Our error handler reports the id in problems; keep it short and unique per process.
     requestIdHeader: false,
+    // Forwarded headers count only from the configured proxies (request.ip, .protocol, .host).
+    trustProxy: deps.trustProxy === undefined ? false : [...deps.trustProxy],
+    frameworkErrors: answerUndecodableUrl,
   }).withTypeProvider<ZodTypeProvider>();
   app.setValidatorCompiler(validatorCompiler);
   app.setSerializerCompiler(serializerCompiler);
   // Only JSON bodies: a cross-site HTML form cannot send one without a CORS preflight.
   app.removeContentTypeParser('text/plain');
   installErrorHandling(app);
+  installRequestScreen(app, {
+    publicHosts: deps.publicHosts ?? [],
+    listenHost: deps.listenHost ?? '127.0.0.1',
+  });
   const unschemed: string[] = [];
   app.decorate('unschemedRoutes', unschemed);
   app.addHook('onRoute', (route) => {

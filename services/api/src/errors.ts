@@ -72,6 +72,12 @@ export const API_ERRORS = {
     title: 'New password is the current one',
     template: 'The new password is the same as the current one; choose a different password.',
   },
+  API_BAD_METRICS_TOKEN: {
+    meaning: 'GET /metrics without the metrics token (only when ISENTROPE_METRICS_TOKEN is set).',
+    status: 401,
+    title: 'Metrics token required',
+    template: 'GET /metrics needs the metrics token (Authorization: Bearer ..., ISENTROPE_METRICS_TOKEN).',
+  },
   API_FORBIDDEN: {
     meaning: 'Authenticated, but the role is too low for this action (viewer < operator < engineer < admin).',
     status: 403,
@@ -144,6 +150,22 @@ export const API_ERRORS = {
     status: 429,
     title: 'Too many requests',
     template: 'Rate limit of {max} requests per {window} reached; retry in {after}.',
+  },
+  API_SIGN_IN_LIMITED: {
+    meaning:
+      'Sign-in refused for the account after too many failed sign-ins (10 in 15 min, from any address); `Retry-After` says when.',
+    status: 429,
+    title: 'Too many failed sign-ins',
+    template:
+      'Too many failed sign-ins for this account ({max} in {windowMinutes} min); retry in {retryAfterS} s, or ask an administrator to set a new password.',
+  },
+  API_MISDIRECTED_HOST: {
+    meaning:
+      'The Host header is not a name this server answers to (DNS-rebinding guard): set ISENTROPE_PUBLIC_HOST, or use localhost.',
+    status: 421,
+    title: 'Host not served here',
+    template:
+      'This server does not answer to the host "{host}"; open it by a name in ISENTROPE_PUBLIC_HOST, or by localhost on this machine.',
   },
   API_EXPORT_NOT_READY: {
     meaning: 'The export exists but is not done (pending or failed).',

@@ -36,7 +36,7 @@ describe('monthly degradation export against the stored results', () => {
   beforeAll(async () => {
     db = await createTestDatabase();
     plant = await seedPlant(db.pool);
-    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'viewer', 'planner-password'));
+    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'engineer', 'planner-password'));
     await setBaseline(db.pool, plant.compressorId, [0.8, 0.05], 0.4, 1);
     await setBands(db.pool, plant.compressorId, 2, 4);
     await setBaseline(db.pool, plant.turbineId, [0.88], 0, 2);
@@ -246,7 +246,7 @@ describe('monthly export in the site time zone, through the API', () => {
       pumpId,
       rows.map((r) => ({ ...r, operatingPoint: 1, power: 1e6 })),
     );
-    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'viewer', 'planner-password'));
+    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'engineer', 'planner-password'));
     app = await buildTestApp(db.pool);
   });
   afterAll(async () => {

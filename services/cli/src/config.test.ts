@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { ConfigError, loadConfig } from './config.js';
+import { anonymousRoleFor, ConfigError, loadConfig } from './config.js';
 
 describe('loadConfig', () => {
   it('gives working defaults for an empty environment (embedded database)', () => {
@@ -65,6 +65,46 @@ describe('loadConfig', () => {
   it('refuses a webhook URL that is not a URL', () => {
     expect(() => loadConfig({ ISENTROPE_WEBHOOK_URL: 'not a url' })).toThrow(
       /ISENTROPE_WEBHOOK_URL="not a url"/,
+    );
+  });
+
+  // Issue 18, item 1: nobody who has not signed in may change anything.
+  it('allows at most the viewer role for anonymous visitors, the demo on loopback included', () => {
+    expect(() => loadConfig({ ISENTROPE_ANONYMOUS_ROLE: 'engineer' })).toThrow(
+      /ISENTROPE_ANONYMOUS_ROLE="engineer": must be none or viewer/,
+    );
+    const local = loadConfig({});
+    expect(anonymousRoleFor(local, true)).toBe('viewer');
+    expect(anonymousRoleFor(local, false)).toBe('none');
+    expect(anonymousRoleFor(loadConfig({ HOST: '0.0.0.0' }), true)).toBe('none');
+    expect(anonymousRoleFor(loadConfig({ ISENTROPE_ANONYMOUS_ROLE: 'none' }), true)).toBe('none');
+  });
+
+  it('reads the public host names, cookie, proxy and metrics settings', () => {
+    const defaults = loadConfig({});
+    expect(defaults.publicHosts).toEqual([]);
+    expect(defaults.cookieSecure).toBe('auto');
+    expect(defaults.trustProxy).toBeUndefined();
+    expect(defaults.metricsToken).toBeUndefined();
+    const set = loadConfig({
+      ISENTROPE_PUBLIC_HOST: 'Historian.Plant.example, historian:8443',
+      ISENTROPE_COOKIE_SECURE: 'always',
+      ISENTROPE_TRUST_PROXY: '127.0.0.1, 10.0.0.0/8,::1',
+      ISENTROPE_METRICS_TOKEN: 'metrics-token-0123456789abcdef',
+    });
+    expect(set.publicHosts).toEqual(['historian.plant.example', 'historian:8443']);
+    expect(set.cookieSecure).toBe('always');
+    expect(set.trustProxy).toEqual(['127.0.0.1', '10.0.0.0/8', '::1']);
+    expect(set.metricsToken).toBe('metrics-token-0123456789abcdef');
+    for (const bad of ['everyone', '1', '10.0.0.0/33'])
+      expect(() => loadConfig({ ISENTROPE_TRUST_PROXY: bad })).toThrow(
+        /ISENTROPE_TRUST_PROXY=".*": must be a comma-separated list of proxy addresses/,
+      );
+    expect(() => loadConfig({ ISENTROPE_PUBLIC_HOST: 'http://historian/' })).toThrow(
+      /ISENTROPE_PUBLIC_HOST="http:\/\/historian\/": must be host names/,
+    );
+    expect(() => loadConfig({ ISENTROPE_COOKIE_SECURE: 'yes' })).toThrow(
+      /ISENTROPE_COOKIE_SECURE="yes": must be auto, always or never/,
     );
   });
 });

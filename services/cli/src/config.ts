@@ -1,3 +1,4 @@
+import { isIP } from 'node:net';
 import { resolve } from 'node:path';
 import { formatError } from '@isentrope/errors';
 import { z } from 'zod';
@@ -25,6 +26,41 @@ const onOff = z
   .enum(['on', 'off', 'true', 'false', '1', '0'], { message: 'must be on or off' })
   .transform((value) => value === 'on' || value === 'true' || value === '1');
 
+const commaList = (value: string) =>
+  value
+    .split(',')
+    .map((part) => part.trim())
+    .filter((part) => part !== '');
+
+/** A host name or address as a Host header carries it, with an optional port (no scheme, no path). */
+const HOST_PATTERN =
+  /^([a-z0-9]([a-z0-9-]*[a-z0-9])?(\.[a-z0-9]([a-z0-9-]*[a-z0-9])?)*|\[[0-9a-f:.]+\])(:\d{1,5})?$/i;
+
+const publicHosts = z
+  .string()
+  .refine((value) => commaList(value).every((host) => HOST_PATTERN.test(host)), {
+    message:
+      'must be host names as the browser shows them, comma-separated, each with an optional :port (e.g. historian.plant.example,historian:8443)',
+  })
+  .transform((value) => commaList(value).map((host) => host.toLowerCase()));
+
+/** A proxy address or CIDR range (fastify's trustProxy list, proxy-addr syntax). */
+function isProxyAddress(part: string): boolean {
+  const [address, bits, ...rest] = part.split('/');
+  if (address === undefined || rest.length > 0 || isIP(address) === 0) return false;
+  if (bits === undefined) return true;
+  const max = isIP(address) === 4 ? 32 : 128;
+  return /^\d{1,3}$/.test(bits) && Number(bits) <= max;
+}
+
+// Addresses only: fastify 5 trusts no hop count (it cannot check the immediate peer), nor should we.
+const trustProxy = z
+  .string()
+  .refine((value) => commaList(value).length > 0 && commaList(value).every(isProxyAddress), {
+    message: 'must be a comma-separated list of proxy addresses or CIDR ranges (e.g. 127.0.0.1,10.0.0.0/8)',
+  })
+  .transform((value): readonly string[] => Object.freeze(commaList(value)));
+
 export const environmentSchema = z.object({
   DATABASE_URL: postgresUrl.optional(),
   ISENTROPE_DATA_DIR: z.string().min(1, 'must not be empty').default('./data'),
@@ -47,9 +83,13 @@ export const environmentSchema = z.object({
   ISENTROPE_JOBS: onOff.default(true),
   ISENTROPE_INGEST_TOKEN: z.string().min(24, 'must be at least 24 characters (a random secret)').optional(),
   ISENTROPE_ADMIN_PASSWORD: z.string().min(12, 'must be at least 12 characters').optional(),
-  ISENTROPE_ANONYMOUS_ROLE: z
-    .enum(['none', 'viewer', 'engineer'], { message: 'must be none, viewer or engineer' })
-    .optional(),
+  ISENTROPE_ANONYMOUS_ROLE: z.enum(['none', 'viewer'], { message: 'must be none or viewer' }).optional(),
+  ISENTROPE_PUBLIC_HOST: publicHosts.optional(),
+  ISENTROPE_COOKIE_SECURE: z
+    .enum(['auto', 'always', 'never'], { message: 'must be auto, always or never' })
+    .default('auto'),
+  ISENTROPE_TRUST_PROXY: trustProxy.optional(),
+  ISENTROPE_METRICS_TOKEN: z.string().min(24, 'must be at least 24 characters (a random secret)').optional(),
   ISENTROPE_WEBHOOK_URL: z.url({ message: 'must be an http(s) URL' }).optional(),
   ISENTROPE_WEBHOOK_SECRET: z.string().min(16, 'must be at least 16 characters').optional(),
   ISENTROPE_SMTP_URL: z
@@ -91,8 +131,16 @@ export interface Config {
   readonly ingestToken: string | undefined;
   /** Password of the first admin user (created when there are no users). */
   readonly adminPassword: string | undefined;
-  /** Role of a visitor who has not signed in; undefined: the default (see start). */
-  readonly anonymousRole: 'none' | 'viewer' | 'engineer' | undefined;
+  /** Role of a visitor who has not signed in; undefined: the default (see anonymousRoleFor). */
+  readonly anonymousRole: 'none' | 'viewer' | undefined;
+  /** Host names (lower case, optional :port) the API answers to besides loopback names. */
+  readonly publicHosts: readonly string[];
+  /** Secure flag of the session cookie: auto = when the request came over https. */
+  readonly cookieSecure: 'auto' | 'always' | 'never';
+  /** Proxies (addresses, CIDR ranges) whose X-Forwarded-* headers are believed; undefined: none. */
+  readonly trustProxy: readonly string[] | undefined;
+  /** Bearer token GET /metrics asks for; undefined: /metrics is public. */
+  readonly metricsToken: string | undefined;
   readonly webhook: { readonly url: string; readonly secret: string | undefined } | undefined;
   readonly smtp: { readonly url: string; readonly from: string; readonly to: string } | undefined;
   /** Energy price for the monthly export. */
@@ -167,6 +215,10 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
     ingestToken: e.ISENTROPE_INGEST_TOKEN,
     adminPassword: e.ISENTROPE_ADMIN_PASSWORD,
     anonymousRole: e.ISENTROPE_ANONYMOUS_ROLE,
+    publicHosts: Object.freeze(e.ISENTROPE_PUBLIC_HOST ?? []),
+    cookieSecure: e.ISENTROPE_COOKIE_SECURE,
+    trustProxy: e.ISENTROPE_TRUST_PROXY,
+    metricsToken: e.ISENTROPE_METRICS_TOKEN,
     webhook:
       e.ISENTROPE_WEBHOOK_URL === undefined
         ? undefined
@@ -184,4 +236,17 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
     runIngest: e.ISENTROPE_INGEST,
     stopDeadlineMs: e.ISENTROPE_STOP_TIMEOUT * 1000,
   });
+}
+
+const LOOPBACK_LISTEN = new Set(['127.0.0.1', 'localhost', '::1']);
+
+/**
+ * Role of a visitor who has not signed in: the setting, else viewer for the demo listening on this
+ * machine alone, else none (sign-in required). Never more than viewer: changing anything needs a user.
+ */
+export function anonymousRoleFor(
+  config: Pick<Config, 'anonymousRole' | 'host'>,
+  demoOn: boolean,
+): 'none' | 'viewer' {
+  return config.anonymousRole ?? (demoOn && LOOPBACK_LISTEN.has(config.host) ? 'viewer' : 'none');
 }

@@ -77,6 +77,17 @@ export async function frame() {
   try {
     const me = await api('/api/auth/me');
     who.textContent = me.kind === 'anonymous' ? `local access (${me.role})` : `${me.username} (${me.role})`;
+    // Anonymous local access only reads; changing anything needs a signed-in user.
+    if (me.kind === 'anonymous') {
+      const next = encodeURIComponent(location.pathname + location.search);
+      who.append(
+        el('a', {
+          href: `/login.html?next=${next}`,
+          text: 'Sign in to change things',
+          style: 'margin-left:.6rem',
+        }),
+      );
+    }
     if (me.kind === 'user') {
       const account = el('a', { href: '/account.html', text: 'Account', style: 'margin-left:.6rem' });
       if (page === 'account') account.setAttribute('aria-current', 'page');

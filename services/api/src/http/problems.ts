@@ -70,7 +70,11 @@ export function asApiError(error: unknown, requestId: string): ApiError {
 
 export function installErrorHandling(app: FastifyInstance): void {
   app.setErrorHandler((error, request, reply) => {
-    const apiError = asApiError(error, request.id);
+    // A path the static files refuse as non-canonical names no file: a 404, not a fault of ours.
+    const apiError =
+      (error as { code?: unknown }).code === 'FST_STATIC_FORBIDDEN_PATH'
+        ? new ApiError('API_ROUTE_NOT_FOUND', { method: request.method, url: request.url })
+        : asApiError(error, request.id);
     if (apiError.code === 'API_INTERNAL') request.log.error({ err: error }, 'unhandled error');
     else if (apiError.status >= 500) request.log.warn({ err: error }, apiError.message);
     if (apiError.code === 'API_RATE_LIMITED') {

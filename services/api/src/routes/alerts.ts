@@ -1,8 +1,8 @@
 import { type AlertEvent, type AlertState, type AlertStatus, stepAlert } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import {
   decodeCursor,

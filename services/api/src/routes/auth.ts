@@ -1,14 +1,13 @@
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
+import { sessionCookieOptions } from '../auth/cookie.js';
 import {
   checkLogin,
   createSession,
   endSession,
   newSecret,
   PASSWORD_CHECK_RATE_LIMIT,
-  SESSION_TTL_MS,
   sha256Hex,
   TOKEN_PREFIX,
 } from '../auth/credentials.js';
@@ -20,7 +19,9 @@ import {
 } from '../auth/password-change.js';
 import { hashPassword } from '../auth/passwords.js';
 import { SESSION_COOKIE } from '../auth/plugin.js';
-import { hasRole, ROLES } from '../auth/roles.js';
+import { hasRole, ROLES, type Role } from '../auth/roles.js';
+import { createSignInLimiter, SIGN_IN_ACCOUNT_LIMIT } from '../auth/sign-in-limit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam, problemSchema } from '../http/schemas.js';
 
@@ -62,7 +63,11 @@ const passwordChangedSchema = z.object({
   sessionsEnded: z.number().int().describe('Browser sessions of the user that were ended (signed out)'),
 });
 
-export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+type AuthApp = Parameters<FastifyPluginAsyncZod>[0];
+
+/** Sign in with username and password: a session cookie, limited per address and per account. */
+function loginRoute(app: AuthApp, ctx: ApiContext): void {
+  const limiter = createSignInLimiter(ctx.now);
   app.post(
     '/auth/login',
     {
@@ -71,11 +76,26 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
         tags: ['auth'],
         summary: 'Sign in; sets an httpOnly SameSite=Strict session cookie',
         body: z.object({ username: z.string().min(1).max(100), password: z.string().min(1).max(1000) }),
-        response: { 200: meSchema, 401: problemSchema, 400: problemSchema },
+        response: { 200: meSchema, 401: problemSchema, 400: problemSchema, 429: problemSchema },
       },
     },
     async (request, reply) => {
-      const user = await checkLogin(ctx.pool, request.body.username, request.body.password);
+      const { username, password } = request.body;
+      const waitMs = limiter.retryAfterMs(username);
+      if (waitMs > 0) {
+        const retryAfterS = Math.ceil(waitMs / 1000);
+        reply.header('retry-after', String(retryAfterS));
+        throw new ApiError('API_SIGN_IN_LIMITED', {
+          max: SIGN_IN_ACCOUNT_LIMIT.maxFailures,
+          windowMinutes: SIGN_IN_ACCOUNT_LIMIT.windowMs / 60_000,
+          retryAfterS,
+        });
+      }
+      const user = await checkLogin(ctx.pool, username, password).catch((error: unknown) => {
+        limiter.recordFailure(username);
+        throw error;
+      });
+      limiter.recordSuccess(username);
       const secret = await createSession(ctx.pool, user.id);
       await appendAudit(ctx.pool, {
         actor: user.username,
@@ -83,17 +103,14 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
         entity: 'user',
         entityId: user.id,
       });
-      reply.setCookie(SESSION_COOKIE, secret, {
-        httpOnly: true,
-        sameSite: 'strict',
-        secure: ctx.cookieSecure ?? false,
-        path: '/',
-        maxAge: SESSION_TTL_MS / 1000,
-      });
+      reply.setCookie(SESSION_COOKIE, secret, sessionCookieOptions(ctx.cookieSecure, request));
       return { kind: 'user' as const, username: user.username, role: user.role };
     },
   );
+}
 
+/** Sign out: ends the session and clears the cookie. */
+function logoutRoute(app: AuthApp, ctx: ApiContext): void {
   app.post(
     '/auth/logout',
     {
@@ -112,11 +129,14 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
             entityId: request.principal.userId,
           });
       }
-      reply.clearCookie(SESSION_COOKIE, { path: '/' });
+      reply.clearCookie(SESSION_COOKIE, sessionCookieOptions(ctx.cookieSecure, request));
       return reply.code(204).send(null);
     },
   );
+}
 
+/** Who is calling. */
+function meRoute(app: AuthApp): void {
   app.get(
     '/auth/me',
     {
@@ -133,7 +153,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       return { kind: p.kind, username: p.username, role: p.role };
     },
   );
+}
 
+/** A signed-in user changes their own password. */
+function ownPasswordRoute(app: AuthApp, ctx: ApiContext): void {
   app.post(
     '/auth/password',
     {
@@ -171,8 +194,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       });
     },
   );
+}
 
-  // Tokens and users: administrators only.
+/** API tokens, never their secrets (administrators). */
+function listTokensRoute(app: AuthApp, ctx: ApiContext): void {
   app.get(
     '/tokens',
     {
@@ -216,7 +241,31 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       };
     },
   );
+}
 
+/** The active user a new token acts for; refused when the token's role would exceed the user's. */
+async function tokenUser(
+  ctx: ApiContext,
+  username: string,
+  role: Role | undefined,
+): Promise<{ id: number; role: Role }> {
+  const { rows } = await ctx.pool.query<{ id: number; role: Role }>(
+    `SELECT id, role FROM users WHERE username = $1 AND disabled_at IS NULL`,
+    [username],
+  );
+  const user = rows[0];
+  if (user === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'user', id: username });
+  if (role !== undefined && !hasRole(user.role, role))
+    throw new ApiError('API_CONFLICT', {
+      entity: 'token for',
+      id: username,
+      reason: `a token cannot exceed its user's role ${user.role}`,
+    });
+  return user;
+}
+
+/** Create an API token (administrators). */
+function createTokenRoute(app: AuthApp, ctx: ApiContext): void {
   app.post(
     '/tokens',
     {
@@ -242,18 +291,7 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       const b = request.body;
       const actor = request.principal!;
       const username = b.username ?? actor.username;
-      const { rows: users } = await ctx.pool.query<{ id: number; role: (typeof ROLES)[number] }>(
-        `SELECT id, role FROM users WHERE username = $1 AND disabled_at IS NULL`,
-        [username],
-      );
-      const user = users[0];
-      if (user === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'user', id: username });
-      if (b.role !== undefined && !hasRole(user.role, b.role))
-        throw new ApiError('API_CONFLICT', {
-          entity: 'token for',
-          id: username,
-          reason: `a token cannot exceed its user's role ${user.role}`,
-        });
+      const user = await tokenUser(ctx, username, b.role);
       const secret = newSecret(TOKEN_PREFIX);
       const expires =
         b.expiresInDays === undefined ? null : new Date(ctx.now() + b.expiresInDays * 86_400_000);
@@ -294,7 +332,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       });
     },
   );
+}
 
+/** Revoke an API token (administrators). */
+function revokeTokenRoute(app: AuthApp, ctx: ApiContext): void {
   app.delete(
     '/tokens/:id',
     {
@@ -325,7 +366,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       return reply.code(204).send(null);
     },
   );
+}
 
+/** Users (administrators). */
+function listUsersRoute(app: AuthApp, ctx: ApiContext): void {
   app.get(
     '/users',
     {
@@ -357,7 +401,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       };
     },
   );
+}
 
+/** Create a user (administrators). */
+function createUserRoute(app: AuthApp, ctx: ApiContext): void {
   app.post(
     '/users',
     {
@@ -406,7 +453,10 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       });
     },
   );
+}
 
+/** An administrator sets another user's password. */
+function resetPasswordRoute(app: AuthApp, ctx: ApiContext): void {
   app.put(
     '/users/:id/password',
     {
@@ -429,4 +479,21 @@ export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app
       });
     },
   );
+}
+
+/** Sign-in, sessions, own password, API tokens and users. */
+export const authRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  for (const route of [
+    loginRoute,
+    logoutRoute,
+    meRoute,
+    ownPasswordRoute,
+    listTokensRoute,
+    createTokenRoute,
+    revokeTokenRoute,
+    listUsersRoute,
+    createUserRoute,
+    resetPasswordRoute,
+  ])
+    route(app, ctx);
 };

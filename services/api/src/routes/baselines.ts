@@ -1,8 +1,8 @@
 import { fitBaseline, MonitorError } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam, isoTime, problemSchema } from '../http/schemas.js';
 import type { BaselineRow } from '../queries/baselines.js';

@@ -7,8 +7,8 @@ import {
 } from '@isentrope/thermo';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { fluidFor } from '../chart/fluid.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { notModified } from '../http/etag.js';
 import { errorResponses, idParam, problemSchema } from '../http/schemas.js';

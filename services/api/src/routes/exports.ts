@@ -16,8 +16,8 @@ import {
 } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit } from '../audit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import {
   decodeCursor,
@@ -190,7 +190,8 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
   app.post(
     '/exports',
     {
-      config: { role: 'viewer' },
+      // Making an export computes a month and stores it: an engineer's action (README, "Security").
+      config: { role: 'engineer' },
       schema: {
         tags: ['exports'],
         summary: 'Make the monthly degradation export now (CSV, JSON or printable HTML) and store it',

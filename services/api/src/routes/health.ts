@@ -1,7 +1,8 @@
 import { migrationLevel } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiDependencies } from '../app.js';
+import { hasRole } from '../auth/roles.js';
+import type { ApiDependencies } from '../context.js';
 
 const healthResponse = z.object({
   status: z.enum(['ok', 'degraded']),
@@ -9,15 +10,18 @@ const healthResponse = z.object({
   uptimeSeconds: z.number(),
   database: z.object({
     kind: z.enum(['external', 'embedded']),
-    url: z.string(),
+    url: z.string().optional().describe('Shown to administrators only'),
     reachable: z.boolean(),
     migrationLevel: z.string().nullable(),
     migrationsApplied: z.number().int(),
-    error: z.string().optional(),
+    error: z.string().optional().describe('Why the database is not reachable; administrators only'),
   }),
 });
 
-/** Liveness with the facts an integrator asks first: which database, at which migration level. */
+/**
+ * Liveness with the facts an integrator asks first: which kind of database, at which migration
+ * level. Its address and the connection error (which names hosts) go to administrators only.
+ */
 export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = async (app, { deps }) => {
   app.get(
     '/health',
@@ -25,7 +29,9 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
       config: { role: 'public' },
       schema: { tags: ['health'], summary: 'Service and database health', response: { 200: healthResponse } },
     },
-    async () => {
+    async (request) => {
+      const admin = request.principal !== undefined && hasRole(request.principal.role, 'admin');
+      const url = admin ? { url: deps.database.displayUrl } : {};
       const base = {
         version: deps.version,
         uptimeSeconds: Math.round((Date.now() - deps.startedAt) / 1000),
@@ -37,7 +43,7 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
           status: 'ok' as const,
           database: {
             kind: deps.database.kind,
-            url: deps.database.displayUrl,
+            ...url,
             reachable: true,
             migrationLevel: level.level ?? null,
             migrationsApplied: level.count,
@@ -49,11 +55,11 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
           status: 'degraded' as const,
           database: {
             kind: deps.database.kind,
-            url: deps.database.displayUrl,
+            ...url,
             reachable: false,
             migrationLevel: null,
             migrationsApplied: 0,
-            error: error instanceof Error ? error.message : String(error),
+            ...(admin ? { error: error instanceof Error ? error.message : String(error) } : {}),
           },
         };
       }
@@ -73,14 +79,14 @@ export const healthRoutes: FastifyPluginAsyncZod<{ deps: ApiDependencies }> = as
         },
       },
     },
-    async (_request, reply) => {
+    async (request, reply) => {
       try {
         await deps.pool.query('SELECT 1');
         return { ready: true as const };
       } catch (error) {
-        return reply
-          .code(503)
-          .send({ ready: false as const, reason: error instanceof Error ? error.message : String(error) });
+        // The driver's message names hosts and users: it goes to the log, not to anonymous callers.
+        request.log.warn({ err: error }, 'not ready: the database did not answer');
+        return reply.code(503).send({ ready: false as const, reason: 'the database did not answer' });
       }
     },
   );

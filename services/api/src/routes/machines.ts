@@ -1,6 +1,6 @@
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { notModified } from '../http/etag.js';
 import {

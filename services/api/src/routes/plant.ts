@@ -1,7 +1,7 @@
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam } from '../http/schemas.js';
 

@@ -1,7 +1,7 @@
 import { degradation } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
-import type { ApiContext } from '../app.js';
+import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { sendJsonWithEtag } from '../http/etag.js';
 import {

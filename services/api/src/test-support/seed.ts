@@ -67,6 +67,16 @@ export async function createToken(pool: pg.Pool, userId: number, name = 'test'):
   return secret;
 }
 
+/** Users viewer1, engineer1 and admin1 (password '<role>-password-1'), each with an API token. */
+export async function createRoleTokens(
+  pool: pg.Pool,
+): Promise<Record<'viewer' | 'engineer' | 'admin', string>> {
+  const tokens = { viewer: '', engineer: '', admin: '' };
+  for (const role of ['viewer', 'engineer', 'admin'] as const)
+    tokens[role] = await createToken(pool, await createUser(pool, `${role}1`, role, `${role}-password-1`));
+  return tokens;
+}
+
 export async function setBands(
   pool: pg.Pool,
   machineId: number,

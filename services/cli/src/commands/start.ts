@@ -6,7 +6,7 @@ import { backfill, backfillAnalysis, ComputeWorkers, runAlertsOnce, startJobs } 
 import { type Database, type DatabaseKind, migrate } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
-import type { Config } from '../config.js';
+import { anonymousRoleFor, type Config } from '../config.js';
 import { initialAdminAnnouncer } from '../initial-admin.js';
 import { Lifecycle } from '../lifecycle.js';
 import { createProgress } from '../progress.js';
@@ -195,9 +195,8 @@ async function startParts(
     lifecycle.add('jobs', () => jobs.stop());
   }
 
-  // Sign-in is required unless said otherwise; the demo on this machine alone opens as an engineer.
-  const loopback = config.host === '127.0.0.1' || config.host === 'localhost' || config.host === '::1';
-  const anonymous = config.anonymousRole ?? (demoOn && loopback ? 'engineer' : 'none');
+  // Sign-in is required unless said otherwise; the demo on this machine alone opens read-only.
+  const anonymous = anonymousRoleFor(config, demoOn);
   const app = await buildApp({
     pool: db.pool,
     database: { kind, displayUrl: db.displayUrl },
@@ -205,6 +204,11 @@ async function startParts(
     version: await packageVersion(),
     startedAt,
     ...(anonymous === 'none' ? {} : { anonymousRole: anonymous }),
+    listenHost: config.host,
+    publicHosts: config.publicHosts,
+    cookieSecure: config.cookieSecure,
+    trustProxy: config.trustProxy,
+    metricsToken: config.metricsToken,
     ...(config.adminPassword === undefined ? {} : { adminPassword: config.adminPassword }),
     announceGeneratedAdminPassword: initialAdminAnnouncer(config.dataDir, logger),
     ...(config.energyPrice === undefined ? {} : { energyPrice: config.energyPrice }),
