@@ -4,6 +4,7 @@
  * is rendered from here (`npm run errors:doc`), and test/unit/error-registry.test.ts fails when the
  * committed file and this registry disagree, or when source code raises a code no catalog holds.
  */
+import { CODEC_ERRORS } from '@isentrope/codec';
 import type { ErrorCatalog } from '@isentrope/errors';
 import { MONITOR_ERRORS } from '@isentrope/monitor';
 import { PLANT_ERRORS } from '@isentrope/plant';
@@ -26,6 +27,7 @@ export const ERROR_AREAS: readonly ErrorArea[] = [
   { folder: 'packages/thermo', prefixes: ['THERMO_', 'UNIT_', 'GAS_'], catalog: THERMO_ERRORS },
   { folder: 'packages/plant', prefixes: ['PLANT_'], catalog: PLANT_ERRORS },
   { folder: 'packages/monitor', prefixes: ['MONITOR_'], catalog: MONITOR_ERRORS },
+  { folder: 'packages/codec', prefixes: ['CODEC_'], catalog: CODEC_ERRORS },
   { folder: 'packages/store', prefixes: ['STORE_'], catalog: STORE_ERRORS },
   { folder: 'services/ingest', prefixes: ['INGEST_'], catalog: INGEST_ERRORS },
   { folder: 'services/jobs', prefixes: ['JOBS_'], catalog: JOBS_ERRORS },
