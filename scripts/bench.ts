@@ -6,7 +6,7 @@
  */
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readdirSync, writeFileSync } from 'node:fs';
-import { join } from 'node:path';
+import { join, relative } from 'node:path';
 
 const root = new URL('..', import.meta.url).pathname;
 const only = process.argv.slice(2);
@@ -25,7 +25,9 @@ for (const area of ['packages', 'services']) {
     }
   }
 }
-const selected = only.length === 0 ? files : files.filter((f) => only.some((o) => f.includes(o)));
+// Filters match the path inside the repository, so a checkout folder's own name selects nothing.
+const selected =
+  only.length === 0 ? files : files.filter((f) => only.some((o) => relative(root, f).includes(o)));
 const lines: string[] = [];
 let failures = 0;
 for (const file of selected) {
