@@ -13,6 +13,7 @@ import type pg from 'pg';
 import { RollupEncoder, type RollupRow, type SampleRow } from './copy-binary.js';
 import { type Queryable, StoreError } from './errors.js';
 import { ensurePartitions } from './partitions.js';
+import { sqlFloat, sqlTime } from './sql-literals.js';
 
 export const MINUTE_MS = 60_000;
 export const HOUR_MS = 3_600_000;
@@ -93,12 +94,14 @@ export function encodeBatchRollups(rows: readonly SampleRow[]): Buffer {
 
 /** A batch's rollup rows split for the fast path (see splitBatchRollups). */
 export interface SplitRollups {
-  /** First minute and first hour bucket of each tag, for rollup_stage and a merge. */
-  readonly head: Buffer;
-  /** Later minute buckets, in samples_1m's columns. */
+  /** First minute and first hour bucket of each tag, to merge (mergeRollupRowsSql). */
+  readonly head: readonly RollupRow[];
+  /** Later minute buckets, in samples_1m's columns, and how many. */
   readonly minutes: Buffer;
-  /** Later hour buckets, in samples_1h's columns. */
+  readonly minuteRows: number;
+  /** Later hour buckets, in samples_1h's columns, and how many. */
   readonly hours: Buffer;
+  readonly hourRows: number;
 }
 
 /**
@@ -108,18 +111,32 @@ export interface SplitRollups {
  * go straight in by COPY, which inserts in bulk where an upsert goes row by row.
  */
 export function splitBatchRollups(rows: readonly SampleRow[]): SplitRollups {
-  const head = new RollupEncoder(2 * rows.length);
+  const head: RollupRow[] = [];
   const minutes = new RollupEncoder(rows.length, false);
   const hours = new RollupEncoder(rows.length, false);
-  aggregateInto(rows, MINUTE_MS, false, minutes, head);
-  aggregateInto(rows, HOUR_MS, true, hours, head);
-  return { head: head.finish(), minutes: minutes.finish(), hours: hours.finish() };
+  aggregateInto(rows, MINUTE_MS, false, minutes, rowSink(head));
+  aggregateInto(rows, HOUR_MS, true, hours, rowSink(head));
+  return {
+    head,
+    minutes: minutes.finish(),
+    minuteRows: minutes.rows,
+    hours: hours.finish(),
+    hourRows: hours.rows,
+  };
 }
 
 /** The same aggregates as rows (for tests and tools). */
 export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
   const out: RollupRow[] = [];
-  const sink = {
+  const sink = rowSink(out);
+  aggregateInto(rows, MINUTE_MS, false, sink);
+  aggregateInto(rows, HOUR_MS, true, sink);
+  return out;
+}
+
+/** An aggregateInto sink that collects RollupRow objects into `out`. */
+function rowSink(out: RollupRow[]): Pick<RollupEncoder, 'addFields'> {
+  return {
     addFields(
       tagId: number,
       bucket: number,
@@ -134,9 +151,6 @@ export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
       out.push({ tagId, bucket, min, max, sum, count, lastValue, lastTime, hourly });
     },
   };
-  aggregateInto(rows, MINUTE_MS, false, sink);
-  aggregateInto(rows, HOUR_MS, true, sink);
-  return out;
 }
 
 /** Aggregates per (tag, bucket of `width`) into `out`; each tag's first bucket into `first` when given. */
@@ -199,6 +213,27 @@ function mergeClause(table: 'samples_1m' | 'samples_1h'): string {
 }
 
 const COLUMNS = 'tag_id, bucket, min, max, sum, count, last_value, last_time';
+
+/**
+ * Statements merging a few rollup rows (the fast path's first bucket of each tag) into
+ * samples_1m and samples_1h, as literals, so they ride in the batch's last round trip
+ * (see sql-literals.ts); '' when there are none.
+ */
+export function mergeRollupRowsSql(rows: readonly RollupRow[]): string {
+  const statements: string[] = [];
+  for (const hourly of [false, true]) {
+    const values = rows
+      .filter((r) => r.hourly === hourly)
+      .map(
+        (r) =>
+          `(${r.tagId}, ${sqlTime(r.bucket)}, ${sqlFloat(r.min)}, ${sqlFloat(r.max)}, ${sqlFloat(r.sum)}, ${r.count}, ${sqlFloat(r.lastValue)}, ${sqlTime(r.lastTime)})`,
+      );
+    const table = hourly ? 'samples_1h' : 'samples_1m';
+    if (values.length > 0)
+      statements.push(`INSERT INTO ${table} (${COLUMNS}) VALUES ${values.join(', ')} ${mergeClause(table)};`);
+  }
+  return statements.join('\n');
+}
 
 /** Merges the rows of rollup_stage into samples_1m and samples_1h (one statement). */
 export const MERGE_ROLLUP_STAGE = `WITH m AS (

@@ -27,12 +27,14 @@ import {
   encodeBatchRollups,
   insertStagedSql,
   MERGE_ROLLUP_STAGE,
+  mergeRollupRowsSql,
   ROLLUP_STAGE_DDL,
   type SplitRollups,
   type StagedResult,
   splitBatchRollups,
   TAG_LOCK_CLASS,
 } from './rollups.js';
+import { sqlFloatArray, sqlIntArray, sqlTimeArray } from './sql-literals.js';
 import {
   type BatchOutcome,
   conflictOf,
@@ -117,9 +119,9 @@ export interface BatchPhaseTimes {
   begin: number;
   /** COPY of the rows (fast path) or COPY to staging plus the insert (staging path, rollups included). */
   copy: number;
-  /** Fast path: COPY of the rollup rows and their merge. */
+  /** Fast path: COPY of the rollups' later buckets. */
   rollups: number;
-  /** tag_last update and COMMIT. */
+  /** Merge of the fast path's first buckets, tag_last update and COMMIT (one round trip). */
   commit: number;
 }
 
@@ -235,30 +237,6 @@ const STAGE_ROLLUPS =
 const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_time)';
 
 /**
- * Fast-path rollups: the buckets after each tag's first are new (every row is newer than
- * the tag's last stored time), so they go in by COPY; the first buckets are merged. Should
- * a later bucket exist after all (rollups written around the writer), a savepoint takes
- * the batch back to merging every bucket.
- */
-async function writeFastRollups(
-  client: pg.PoolClient,
-  split: SplitRollups,
-  sorted: readonly Row[],
-): Promise<void> {
-  await client.query('SAVEPOINT rollups');
-  try {
-    await copyBuffer(client, `COPY samples_1m ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.minutes);
-    await copyBuffer(client, `COPY samples_1h ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.hours);
-    await copyBuffer(client, STAGE_ROLLUPS, split.head);
-  } catch (error) {
-    if (pgCode(error) !== '23505') throw error;
-    await client.query('ROLLBACK TO SAVEPOINT rollups');
-    await copyBuffer(client, STAGE_ROLLUPS, encodeBatchRollups(sorted));
-  }
-  await client.query(MERGE_ROLLUP_STAGE);
-}
-
-/**
  * Staging path, for a batch with keys at or before a tag's last stored time (or one the
  * fast COPY met stored): COPY to samples_stage, then one statement inserts the new rows,
  * merges them into the rollups and returns the keys stored with another value. Runs inside
@@ -297,21 +275,25 @@ async function writeStaged(
   return { stored: r.n, duplicates: rows.length - r.n - conflicts.length, conflicts };
 }
 
-/** Fast path: COPY straight into samples; undefined when a key was stored after all. */
+const COPY_SAMPLES = 'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)';
+
+/**
+ * Fast path: COPY straight into samples and the rollups' later buckets (new, since every
+ * row is newer than its tag's last stored time: COPY inserts in bulk where an upsert goes
+ * row by row). Returns the rows stored and the statements that merge each tag's first
+ * buckets (sent with the COMMIT), or undefined when a key was stored after all (rows
+ * written around the writer; back to the savepoint, for the staging path). A later bucket
+ * stored around the writer takes the batch back to merging every bucket.
+ */
 async function copyFast(
   client: pg.PoolClient,
   batch: PreparedBatch,
   rollups: boolean,
   lap: (phase: keyof BatchPhaseTimes) => void,
-): Promise<number | undefined> {
-  await client.query('SAVEPOINT fast');
+): Promise<{ stored: number; merge: string } | undefined> {
   let stored: number;
   try {
-    stored = await copyBuffer(
-      client,
-      'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
-      batch.data,
-    );
+    stored = await copyBuffer(client, COPY_SAMPLES, batch.data);
   } catch (error) {
     if (pgCode(error) !== '23505') throw error;
     await client.query('ROLLBACK TO SAVEPOINT fast');
@@ -319,50 +301,79 @@ async function copyFast(
     return undefined;
   }
   lap('copy');
-  // Every row went in, so the batch's own aggregates are exactly what the rollups gain.
-  if (rollups && batch.rollups !== undefined) {
-    await writeFastRollups(client, batch.rollups, batch.sorted);
+  const split = batch.rollups;
+  if (!rollups || split === undefined) return { stored, merge: '' };
+  try {
+    if (split.minuteRows > 0)
+      await copyBuffer(client, `COPY samples_1m ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.minutes);
+    if (split.hourRows > 0)
+      await copyBuffer(client, `COPY samples_1h ${ROLLUP_COLUMNS} FROM STDIN (FORMAT binary)`, split.hours);
     lap('rollups');
+    return { stored, merge: mergeRollupRowsSql(split.head) };
+  } catch (error) {
+    if (pgCode(error) !== '23505') throw error;
+    await client.query('ROLLBACK TO SAVEPOINT fast');
+    stored = await copyBuffer(client, COPY_SAMPLES, batch.data);
+    await copyBuffer(client, STAGE_ROLLUPS, encodeBatchRollups(batch.sorted));
+    await client.query(MERGE_ROLLUP_STAGE);
+    lap('rollups');
+    return { stored, merge: '' };
   }
-  return stored;
 }
 
-/** The batch's transaction on one connection: locks, tag_last check, fast or staging path, tag_last. */
+/** Results of a simple-protocol query (pg returns an array when the text has several statements). */
+async function simpleQuery(client: pg.PoolClient, sql: string): Promise<pg.QueryResult[]> {
+  const r: pg.QueryResult | pg.QueryResult[] = await client.query(sql);
+  return Array.isArray(r) ? r : [r];
+}
+
+/**
+ * The batch's first round trip: BEGIN, the per-tag locks (sorted, so no deadlock), a
+ * savepoint for the fast path, and how many tags have a stored time at or after the batch's
+ * first. Separate statements, so the check reads tag_last after the locks are held (each
+ * statement of a simple query takes its own snapshot under READ COMMITTED).
+ */
+function beginSql(batch: PreparedBatch): string {
+  return `BEGIN;
+    SELECT pg_advisory_xact_lock(${TAG_LOCK_CLASS}, t) FROM unnest(${sqlIntArray(batch.tagIds)}) AS t ORDER BY t;
+    SAVEPOINT fast;
+    SELECT count(*)::int AS n FROM unnest(${sqlIntArray(batch.tagIds)}, ${sqlTimeArray(batch.firstTimes)}) AS b(tag_id, t)
+      JOIN tag_last l USING (tag_id) WHERE l.time >= b.t`;
+}
+
+/** The batch's last round trip: rollup merges (if any), tag_last when rows were stored, COMMIT. */
+function finishSql(batch: PreparedBatch, merge: string, stored: boolean): string {
+  // Nothing new means every key was stored already, and tag_last is at least as late.
+  const last = stored
+    ? `INSERT INTO tag_last (tag_id, time, value)
+       SELECT * FROM unnest(${sqlIntArray(batch.tagIds)}, ${sqlTimeArray(batch.lastTimes)}, ${sqlFloatArray(batch.lastValues)})
+       ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time;`
+    : '';
+  return `${merge}\n${last}\nCOMMIT`;
+}
+
+/**
+ * The batch's transaction on one connection, in as few round trips as the data allow
+ * (fast path: begin, COPY of the rows, COPY of each rollup table, finish).
+ */
 async function writeInTransaction(
   client: pg.PoolClient,
   batch: PreparedBatch,
   rollups: boolean,
   lap: (phase: keyof BatchPhaseTimes) => void,
 ): Promise<BatchOutcome> {
-  await client.query('BEGIN');
-  await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
-    TAG_LOCK_CLASS,
-    batch.tagIds,
-  ]);
-  const seen = await client.query<{ n: number }>(
-    `SELECT count(*)::int AS n FROM unnest($1::int[], $2::timestamptz[]) AS b(tag_id, t)
-       JOIN tag_last l USING (tag_id) WHERE l.time >= b.t`,
-    [batch.tagIds, batch.firstTimes],
-  );
+  const opened = await simpleQuery(client, beginSql(batch));
+  const seen = (opened[opened.length - 1]?.rows[0] as { n: number } | undefined)?.n;
   lap('begin');
-  const copied = seen.rows[0]?.n === 0 ? await copyFast(client, batch, rollups, lap) : undefined;
+  const fast = seen === 0 ? await copyFast(client, batch, rollups, lap) : undefined;
   let outcome: BatchOutcome;
-  if (copied !== undefined) {
-    outcome = { stored: copied, duplicates: 0, conflicts: [], fast: true };
+  if (fast !== undefined) {
+    outcome = { stored: fast.stored, duplicates: 0, conflicts: [], fast: true };
   } else {
     outcome = { ...(await writeStaged(client, batch.sorted, batch.data, rollups)), fast: false };
     lap('copy');
   }
-  // Nothing new means every key was stored already, and tag_last is at least as late.
-  if (outcome.stored > 0) {
-    await client.query(
-      `INSERT INTO tag_last (tag_id, time, value)
-       SELECT * FROM unnest($1::int[], $2::timestamptz[], $3::float8[])
-       ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time`,
-      [batch.tagIds, batch.lastTimes, batch.lastValues],
-    );
-  }
-  await client.query('COMMIT');
+  await simpleQuery(client, finishSql(batch, fast?.merge ?? '', outcome.stored > 0));
   lap('commit');
   return outcome;
 }
@@ -566,6 +577,10 @@ export class SampleWriter {
     }
     this.queue.push(this.prepare(batch));
     this.start();
+    // Let the database's replies in before the caller prepares the next batch: write()
+    // resolves through microtasks only, so a caller writing in a loop would otherwise keep
+    // the event loop (and the batch in flight) waiting until the queue is full.
+    await new Promise<void>((resolve) => setImmediate(resolve));
   }
 
   private prepare(rows: Row[]): PreparedBatch {
@@ -596,7 +611,9 @@ export class SampleWriter {
         this.count(outcome);
         if (outcome.conflicts.length > 0 && this.onConflicts !== undefined)
           this.undelivered = outcome.conflicts;
-        this.notify();
+        // Wake a waiting write() (which then prepares a batch on this thread) only after the
+        // next batch's first round trip is on its way, so the database is not left idle.
+        setImmediate(() => this.notify());
       }
     } catch (error) {
       this.failure = error;
