@@ -218,3 +218,25 @@ describe('write outcomes (first stored value kept)', () => {
     await w.close();
   });
 });
+
+describe('literals sent with the COMMIT (tag_last, first rollup buckets)', () => {
+  it('keep negative zero, denormals and 17-digit values exactly', async () => {
+    // Values chosen for their bit patterns (IEEE 754 binary64): -0, the smallest denormal, 0.1 + 0.2.
+    const values = [-0, 5e-324, 0.1 + 0.2];
+    for (const [k, value] of values.entries())
+      await writeSampleBatch(db.pool, [{ tagId: 80 + k, time: T0, value, quality: QUALITY_GOOD }]);
+    const r = await db.pool.query<{ tag_id: number; l: string; m: string; s: string }>(
+      `SELECT l.tag_id, encode(float8send(l.value), 'hex') AS l, encode(float8send(m.last_value), 'hex') AS m,
+              encode(float8send(s.value), 'hex') AS s
+         FROM tag_last l JOIN samples_1m m USING (tag_id) JOIN samples s USING (tag_id)
+        WHERE l.tag_id BETWEEN 80 AND 82 ORDER BY l.tag_id`,
+    );
+    // float8send gives the big-endian bytes of the double.
+    const hex = (v: number): string => {
+      const b = Buffer.alloc(8);
+      b.writeDoubleBE(v);
+      return b.toString('hex');
+    };
+    expect(r.rows).toEqual(values.map((v, k) => ({ tag_id: 80 + k, l: hex(v), m: hex(v), s: hex(v) })));
+  });
+});
