@@ -12,7 +12,9 @@
  * samples, so the cost of a batch does not grow with the table.
  *
  * The COPY data (and the batch's rollup rows) are encoded when a batch is queued, so the
- * next batch is built while the database is still busy with the current one.
+ * next batch is built while the database is still busy with the current one; SampleWriter
+ * writes two batches at once on two connections (the second starts once the first holds
+ * its locks, so batches sharing a tag still commit in order).
  */
 import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
@@ -82,6 +84,11 @@ export interface SampleWriterOptions {
   /** Keep samples_1m / samples_1h up to date (default true). */
   readonly rollups?: boolean;
   /**
+   * Batches written at once, each on its own pool connection (default 2; 1 writes one
+   * after the other). A batch starts once the one before holds its locks.
+   */
+  readonly batchesInFlight?: number;
+  /**
    * Called with the conflicts of each batch that has any (rows refused because their key
    * is stored with another value or quality), after the batch committed and before the
    * flush() covering it resolves. Should it throw, flush() rejects and a later flush()
@@ -114,7 +121,9 @@ export interface BatchPhaseTimes {
   prepare: number;
   /**
    * Partition checks, connection, BEGIN, advisory locks and the tag_last check; includes
-   * any wait for the event loop while the caller prepares further batches.
+   * any wait for the event loop while the caller prepares further batches, and for the
+   * locks of tags that the batch in flight before holds. Phases of batches written side by
+   * side (batchesInFlight) add up, so their sum can exceed the wall time.
    */
   begin: number;
   /** COPY of the rows (fast path) or COPY to staging plus the insert (staging path, rollups included). */
@@ -361,9 +370,11 @@ async function writeInTransaction(
   batch: PreparedBatch,
   rollups: boolean,
   lap: (phase: keyof BatchPhaseTimes) => void,
+  onLocked: () => void,
 ): Promise<BatchOutcome> {
   const opened = await simpleQuery(client, beginSql(batch));
   const seen = (opened[opened.length - 1]?.rows[0] as { n: number } | undefined)?.n;
+  onLocked();
   lap('begin');
   const fast = seen === 0 ? await copyFast(client, batch, rollups, lap) : undefined;
   let outcome: BatchOutcome;
@@ -383,8 +394,12 @@ async function writePrepared(
   batch: PreparedBatch,
   rollups: boolean,
   phases: BatchPhaseTimes = zeroPhases(),
+  onLocked: () => void = () => {},
 ): Promise<BatchOutcome> {
-  if (batch.rows === 0) return withRepeats({ stored: 0, duplicates: 0, conflicts: [], fast: true }, batch);
+  if (batch.rows === 0) {
+    onLocked();
+    return withRepeats({ stored: 0, duplicates: 0, conflicts: [], fast: true }, batch);
+  }
   let mark = performance.now();
   const lap = (phase: keyof BatchPhaseTimes): void => {
     const now = performance.now();
@@ -405,7 +420,7 @@ async function writePrepared(
         await client.query(ROLLUP_STAGE_DDL);
         staged.add(client);
       }
-      return withRepeats(await writeInTransaction(client, batch, rollups, lap), batch);
+      return withRepeats(await writeInTransaction(client, batch, rollups, lap, onLocked), batch);
     } catch (error) {
       await client.query('ROLLBACK').catch(() => {});
       // 23514: "no partition of relation found for row": a partition was dropped behind our cache.
@@ -465,14 +480,19 @@ export class SampleWriter {
   private readonly batchSize: number;
   private readonly maxQueued: number;
   private readonly rollups: boolean;
+  private readonly inFlightMax: number;
   private readonly onConflicts: SampleWriterOptions['onConflicts'];
-  /** Conflicts of a committed batch not yet taken by onConflicts (it threw). */
-  private undelivered: readonly WriteConflict[] | undefined;
+  /** Conflicts of committed batches not yet taken by onConflicts, oldest first. */
+  private readonly undelivered: (readonly WriteConflict[])[] = [];
+  private delivering = false;
+  /** Queued batches being written (the others wait; a committed batch leaves the queue). */
+  private readonly started = new Set<PreparedBatch>();
+  /** A batch was started and does not hold its locks yet (the next one waits for that). */
+  private locking = false;
   private readonly compressors = new Map<number, Compressor>();
   private readonly lastTime = new Map<number, number>();
   private pending: Row[] = [];
   private readonly queue: PreparedBatch[] = [];
-  private running = false;
   private failure: unknown;
   private closed = false;
   private waiters: (() => void)[] = [];
@@ -485,11 +505,16 @@ export class SampleWriter {
     this.batchSize = options.batchSize ?? 20_000;
     this.maxQueued = options.maxQueuedBatches ?? 4;
     this.rollups = options.rollups ?? true;
+    this.inFlightMax = options.batchesInFlight ?? 2;
     this.onConflicts = options.onConflicts;
-    if (!(this.batchSize >= 1) || !(this.maxQueued >= 1)) {
-      throw new StoreError('STORE_BAD_REQUEST', 'batchSize and maxQueuedBatches must be at least 1', {
-        ...options,
-      });
+    if (!(this.batchSize >= 1) || !(this.maxQueued >= 1) || !(this.inFlightMax >= 1)) {
+      throw new StoreError(
+        'STORE_BAD_REQUEST',
+        'batchSize, maxQueuedBatches and batchesInFlight must be at least 1',
+        {
+          ...options,
+        },
+      );
     }
     for (const [tagId, c] of options.compression ?? [])
       this.compressors.set(tagId, createCompressor(c.method, c.deviation));
@@ -515,12 +540,13 @@ export class SampleWriter {
   /** Writes everything buffered; resolves when it is committed. */
   async flush(): Promise<void> {
     if (this.pending.length > 0) await this.enqueue(this.pending.splice(0));
-    // A failed batch stays at the head of the queue: flush() is the retry.
-    if (this.failure !== undefined && (this.queue.length > 0 || this.undelivered !== undefined)) {
+    // A failed batch stays in the queue: flush() is the retry.
+    if (this.failure !== undefined && (this.queue.length > 0 || this.undelivered.length > 0)) {
       this.failure = undefined;
       this.start();
+      void this.deliver();
     }
-    while (this.queue.length > 0 || this.undelivered !== undefined || this.running) {
+    while (this.queue.length > 0 || this.undelivered.length > 0 || this.delivering) {
       if (this.failure !== undefined) throw this.wrapFailure();
       await this.changed();
     }
@@ -591,34 +617,64 @@ export class SampleWriter {
     return batch;
   }
 
+  /**
+   * Starts the oldest waiting batch, unless `inFlightMax` are being written or the last one
+   * started does not hold its per-tag locks yet: batches start in order, so a later batch
+   * with a shared tag waits for the earlier one's commit (and then finds it in tag_last),
+   * while batches of other tags are written side by side on two connections.
+   */
   private start(): void {
-    if (this.running || this.failure !== undefined) return;
-    this.running = true;
-    void this.run();
+    if (this.failure !== undefined || this.locking || this.started.size >= this.inFlightMax) return;
+    const batch = this.queue.find((b) => !this.started.has(b));
+    if (batch === undefined) return;
+    this.started.add(batch);
+    this.locking = true;
+    void this.writeOne(batch);
   }
 
-  private async run(): Promise<void> {
+  private async writeOne(batch: PreparedBatch): Promise<void> {
+    let waiting = true;
+    const locked = (): void => {
+      if (!waiting) return;
+      waiting = false;
+      this.locking = false;
+      this.start();
+    };
     try {
-      for (;;) {
-        if (this.undelivered !== undefined) {
-          await this.onConflicts?.(this.undelivered);
-          this.undelivered = undefined;
-        }
-        const batch = this.queue[0];
-        if (batch === undefined) break;
-        const outcome = await writePrepared(this.pool, batch, this.rollups, this.stats.phaseMs);
-        this.queue.shift();
-        this.count(outcome);
-        if (outcome.conflicts.length > 0 && this.onConflicts !== undefined)
-          this.undelivered = outcome.conflicts;
-        // Wake a waiting write() (which then prepares a batch on this thread) only after the
-        // next batch's first round trip is on its way, so the database is not left idle.
-        setImmediate(() => this.notify());
+      const outcome = await writePrepared(this.pool, batch, this.rollups, this.stats.phaseMs, locked);
+      this.queue.splice(this.queue.indexOf(batch), 1);
+      this.count(outcome);
+      if (outcome.conflicts.length > 0 && this.onConflicts !== undefined) {
+        this.undelivered.push(outcome.conflicts);
+        void this.deliver();
       }
     } catch (error) {
-      this.failure = error;
+      this.failure ??= error;
     } finally {
-      this.running = false;
+      this.started.delete(batch);
+      locked();
+      // Wake a waiting write() (which then prepares a batch on this thread) only after the
+      // next batch's first round trip is on its way, so the database is not left idle.
+      setImmediate(() => {
+        this.start();
+        this.notify();
+      });
+    }
+  }
+
+  /** Hands committed batches' conflicts to onConflicts, one batch at a time, in order. */
+  private async deliver(): Promise<void> {
+    if (this.delivering) return;
+    this.delivering = true;
+    try {
+      for (let next = this.undelivered[0]; next !== undefined; next = this.undelivered[0]) {
+        await this.onConflicts?.(next);
+        this.undelivered.shift();
+      }
+    } catch (error) {
+      this.failure ??= error;
+    } finally {
+      this.delivering = false;
       this.notify();
     }
   }

@@ -1,3 +1,4 @@
+import pg from 'pg';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
 import type { SampleRow } from './copy-binary.js';
@@ -238,5 +239,32 @@ describe('literals sent with the COMMIT (tag_last, first rollup buckets)', () =>
       return b.toString('hex');
     };
     expect(r.rows).toEqual(values.map((v, k) => ({ tag_id: 80 + k, l: hex(v), m: hex(v), s: hex(v) })));
+  });
+});
+
+describe('batches in flight', () => {
+  it('two batches at once on a pool of one connection: no deadlock, every row once, in order', async () => {
+    const pool = new pg.Pool({ connectionString: db.url, max: 1 });
+    try {
+      const w = new SampleWriter(pool, { batchSize: 150, flushIntervalMs: 0, batchesInFlight: 2 });
+      // Tag-major then time-major: batches with other tags and with the same tags.
+      await w.write(batch([90, 91, 92], 200));
+      await w.write(batch([90, 91, 92], 100, T0 + 200_000).sort((a, b) => a.time - b.time));
+      await w.close();
+      expect(w.stats).toMatchObject({
+        rowsStored: 900,
+        rowsDuplicate: 0,
+        rowsConflicting: 0,
+        stagedBatches: 0,
+      });
+    } finally {
+      await pool.end();
+    }
+    const r = await db.pool.query<{ n: number; c: number; last: Date }>(
+      `SELECT (SELECT count(*)::int FROM samples WHERE tag_id BETWEEN 90 AND 92) AS n,
+              (SELECT sum(count)::int FROM samples_1h WHERE tag_id BETWEEN 90 AND 92) AS c,
+              (SELECT max(time) FROM tag_last WHERE tag_id BETWEEN 90 AND 92) AS last`,
+    );
+    expect(r.rows[0]).toEqual({ n: 900, c: 900, last: new Date(T0 + 299_000) });
   });
 });
