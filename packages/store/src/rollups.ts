@@ -13,6 +13,7 @@ import type pg from 'pg';
 import { RollupEncoder, type RollupRow, type SampleRow } from './copy-binary.js';
 import { type Queryable, StoreError } from './errors.js';
 import { ensurePartitions } from './partitions.js';
+import { sqlFloat, sqlTime } from './sql-literals.js';
 
 export const MINUTE_MS = 60_000;
 export const HOUR_MS = 3_600_000;
@@ -93,12 +94,14 @@ export function encodeBatchRollups(rows: readonly SampleRow[]): Buffer {
 
 /** A batch's rollup rows split for the fast path (see splitBatchRollups). */
 export interface SplitRollups {
-  /** First minute and first hour bucket of each tag, for rollup_stage and a merge. */
-  readonly head: Buffer;
-  /** Later minute buckets, in samples_1m's columns. */
+  /** First minute and first hour bucket of each tag, to merge (mergeRollupRowsSql). */
+  readonly head: readonly RollupRow[];
+  /** Later minute buckets, in samples_1m's columns, and how many. */
   readonly minutes: Buffer;
-  /** Later hour buckets, in samples_1h's columns. */
+  readonly minuteRows: number;
+  /** Later hour buckets, in samples_1h's columns, and how many. */
   readonly hours: Buffer;
+  readonly hourRows: number;
 }
 
 /**
@@ -108,18 +111,32 @@ export interface SplitRollups {
  * go straight in by COPY, which inserts in bulk where an upsert goes row by row.
  */
 export function splitBatchRollups(rows: readonly SampleRow[]): SplitRollups {
-  const head = new RollupEncoder(2 * rows.length);
+  const head: RollupRow[] = [];
   const minutes = new RollupEncoder(rows.length, false);
   const hours = new RollupEncoder(rows.length, false);
-  aggregateInto(rows, MINUTE_MS, false, minutes, head);
-  aggregateInto(rows, HOUR_MS, true, hours, head);
-  return { head: head.finish(), minutes: minutes.finish(), hours: hours.finish() };
+  aggregateInto(rows, MINUTE_MS, false, minutes, rowSink(head));
+  aggregateInto(rows, HOUR_MS, true, hours, rowSink(head));
+  return {
+    head,
+    minutes: minutes.finish(),
+    minuteRows: minutes.rows,
+    hours: hours.finish(),
+    hourRows: hours.rows,
+  };
 }
 
 /** The same aggregates as rows (for tests and tools). */
 export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
   const out: RollupRow[] = [];
-  const sink = {
+  const sink = rowSink(out);
+  aggregateInto(rows, MINUTE_MS, false, sink);
+  aggregateInto(rows, HOUR_MS, true, sink);
+  return out;
+}
+
+/** An aggregateInto sink that collects RollupRow objects into `out`. */
+function rowSink(out: RollupRow[]): Pick<RollupEncoder, 'addFields'> {
+  return {
     addFields(
       tagId: number,
       bucket: number,
@@ -134,9 +151,6 @@ export function aggregateSortedBatch(rows: readonly SampleRow[]): RollupRow[] {
       out.push({ tagId, bucket, min, max, sum, count, lastValue, lastTime, hourly });
     },
   };
-  aggregateInto(rows, MINUTE_MS, false, sink);
-  aggregateInto(rows, HOUR_MS, true, sink);
-  return out;
 }
 
 /** Aggregates per (tag, bucket of `width`) into `out`; each tag's first bucket into `first` when given. */
@@ -200,6 +214,27 @@ function mergeClause(table: 'samples_1m' | 'samples_1h'): string {
 
 const COLUMNS = 'tag_id, bucket, min, max, sum, count, last_value, last_time';
 
+/**
+ * Statements merging a few rollup rows (the fast path's first bucket of each tag) into
+ * samples_1m and samples_1h, as literals, so they ride in the batch's last round trip
+ * (see sql-literals.ts); '' when there are none.
+ */
+export function mergeRollupRowsSql(rows: readonly RollupRow[]): string {
+  const statements: string[] = [];
+  for (const hourly of [false, true]) {
+    const values = rows
+      .filter((r) => r.hourly === hourly)
+      .map(
+        (r) =>
+          `(${r.tagId}, ${sqlTime(r.bucket)}, ${sqlFloat(r.min)}, ${sqlFloat(r.max)}, ${sqlFloat(r.sum)}, ${r.count}, ${sqlFloat(r.lastValue)}, ${sqlTime(r.lastTime)})`,
+      );
+    const table = hourly ? 'samples_1h' : 'samples_1m';
+    if (values.length > 0)
+      statements.push(`INSERT INTO ${table} (${COLUMNS}) VALUES ${values.join(', ')} ${mergeClause(table)};`);
+  }
+  return statements.join('\n');
+}
+
 /** Merges the rows of rollup_stage into samples_1m and samples_1h (one statement). */
 export const MERGE_ROLLUP_STAGE = `WITH m AS (
     INSERT INTO samples_1m (${COLUMNS}) SELECT ${COLUMNS} FROM rollup_stage WHERE NOT hourly
@@ -208,24 +243,60 @@ export const MERGE_ROLLUP_STAGE = `WITH m AS (
     ${mergeClause('samples_1h')}`;
 
 /**
- * Staging path: inserts samples_stage into samples, skipping stored keys, and merges the
- * rows really inserted into both rollups, in one statement. Buckets are cut by date_bin
- * from 2000-01-01 UTC so the session's TimeZone cannot shift an hour bucket.
+ * Every row of samples_stage, with the stored value and quality of its key (null when the
+ * key is new). The subquery is fenced (OFFSET 0) so each staged row probes the primary key:
+ * the staging table has no statistics, and a hash or merge join would read whole
+ * partitions of samples.
+ */
+const STAGED_WITH_STORED = `old AS (
+    SELECT s.tag_id, s.time, s.value, s.quality, p.value AS stored_value, p.quality AS stored_quality
+      FROM samples_stage s
+      LEFT JOIN LATERAL (SELECT value, quality FROM samples p WHERE p.tag_id = s.tag_id AND p.time = s.time OFFSET 0) p
+        ON true)`;
+
+/** Columns of the staging statement's one result row. */
+export interface StagedResult {
+  /** Rows inserted. */
+  readonly n: number;
+  /** Conflicting keys (another value bit for bit, or another quality), parallel arrays. */
+  readonly tag_ids: number[];
+  /** [ms since epoch] */
+  readonly times: number[];
+  readonly stored_values: number[];
+  readonly stored_qualities: number[];
+}
+
+/**
+ * Staging path: inserts the rows of samples_stage whose key is new, merges the rows really
+ * inserted into both rollups, and returns the staged keys stored with another value or
+ * quality, all in one statement. Every part of a statement sees the same snapshot, so `old`
+ * holds what was stored before this insert, never its own rows; ON CONFLICT DO NOTHING
+ * still guards a key stored meanwhile around the writer. The rows go in the order they were
+ * staged (the writer stages them sorted by key), so no sort. float8send compares values bit
+ * for bit (= holds -0 equal to 0). Buckets are cut by date_bin from 2000-01-01 UTC so the
+ * session's TimeZone cannot shift an hour bucket.
  */
 export function insertStagedSql(rollups: boolean): string {
   const insert = `INSERT INTO samples (tag_id, time, value, quality)
-      SELECT tag_id, time, value, quality FROM samples_stage ORDER BY tag_id, time
+      SELECT tag_id, time, value, quality FROM old WHERE stored_quality IS NULL
       ON CONFLICT DO NOTHING RETURNING tag_id, time, value`;
-  if (!rollups) return `WITH ins AS (${insert}) SELECT count(*)::int AS n FROM ins`;
   const agg = (
     width: string,
   ): string => `SELECT tag_id, date_bin(interval '${width}', time, timestamptz '2000-01-01 00:00+00'),
          min(value), max(value), sum(value), count(*)::int, (array_agg(value ORDER BY time DESC))[1], max(time)
       FROM ins GROUP BY 1, 2`;
-  return `WITH ins AS (${insert}),
-    m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
-    h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})
-    SELECT count(*)::int AS n FROM ins`;
+  const merges = rollups
+    ? `, m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
+    h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})`
+    : '';
+  return `WITH ${STAGED_WITH_STORED}, ins AS (${insert})${merges}
+    SELECT (SELECT count(*)::int FROM ins) AS n,
+           coalesce(array_agg(tag_id), '{}') AS tag_ids,
+           coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') AS times,
+           coalesce(array_agg(stored_value), '{}') AS stored_values,
+           coalesce(array_agg(stored_quality), '{}') AS stored_qualities
+      FROM old WHERE stored_quality IS NOT NULL
+       AND (float8send(value) <> float8send(stored_value) OR quality <> stored_quality)`;
 }
 
 export interface RebuildRollupsOptions {
