@@ -15,10 +15,10 @@
  * table, so each figure is of a first backfill of history written some time before.
  */
 import { randomBytes } from 'node:crypto';
+import { defaultFluidResolver } from '@isentrope/compute';
 import { ensurePartitions, migrate } from '@isentrope/store';
 import { dryAir, type Fluid, normalVolumeFlowToMassFlow } from '@isentrope/thermo';
 import pg from 'pg';
-import { defaultFluidResolver } from '../src/compute/config.js';
 import { backfill, runComputeOnce } from '../src/compute/job.js';
 import { ComputeWorkers } from '../src/compute/workers.js';
 

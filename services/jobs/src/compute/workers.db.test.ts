@@ -1,3 +1,4 @@
+import { type RawSeries, type ResultRow, resolveComputeOptions } from '@isentrope/compute';
 import { dryAir } from '@isentrope/thermo';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
@@ -12,7 +13,6 @@ import {
   seedSite,
 } from '../testing/synthetic.js';
 import { backfill } from './job.js';
-import { type RawSeries, type ResultRow, resolveComputeOptions } from './pipeline.js';
 import { ComputeWorkers } from './workers.js';
 
 // INVENTED data (testing/synthetic.ts): an expander and a compressor on dry air, the default
