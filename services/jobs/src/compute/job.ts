@@ -370,6 +370,18 @@ export interface BackfillStats {
 }
 
 /**
+ * Compute threads of a backfill. Threads take about half a second each to start and warm up, so a
+ * small range stays on the main thread unless workers are asked for; a backfill with its own
+ * `fluids` resolver always does (a function cannot be sent to a worker).
+ */
+function backfillThreads(options: BackfillOptions, total: number): number {
+  if (options.fluids !== undefined) return 0;
+  if (options.workers instanceof ComputeWorkers) return options.workers.threads;
+  if (typeof options.workers === 'number') return options.workers;
+  return total >= MIN_POINTS_FOR_WORKERS ? defaultComputeThreads() : 0;
+}
+
+/**
  * Recompute [from, to) for every machine (or the given ones). Does not move the incremental
  * watermark: rows written are the same rows the incremental run writes for these times.
  */
@@ -399,19 +411,8 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
     pool,
     machines.map((m) => m.row.id),
   );
-  // Threads take about half a second each to start and warm up, so a small range stays on the
-  // main thread unless workers are asked for.
   const given = options.workers instanceof ComputeWorkers ? options.workers : undefined;
-  const threads =
-    options.fluids !== undefined
-      ? 0
-      : given !== undefined
-        ? given.threads
-        : typeof options.workers === 'number'
-          ? options.workers
-          : total >= MIN_POINTS_FOR_WORKERS
-            ? defaultComputeThreads()
-            : 0;
+  const threads = backfillThreads(options, total);
   const workers = threads === 0 ? undefined : (given ?? new ComputeWorkers(threads));
   // A few machines at once, so every worker has work while the others wait on the database.
   const lanes = Math.max(1, Math.min(options.concurrency ?? Math.max(3, threads + 1), machines.length));
