@@ -5,6 +5,7 @@
  * committed file and this registry disagree, or when source code raises a code no catalog holds.
  */
 import { CODEC_ERRORS } from '@isentrope/codec';
+import { COMPUTE_ERRORS } from '@isentrope/compute';
 import type { ErrorCatalog } from '@isentrope/errors';
 import { MONITOR_ERRORS } from '@isentrope/monitor';
 import { PLANT_ERRORS } from '@isentrope/plant';
@@ -27,6 +28,7 @@ export const ERROR_AREAS: readonly ErrorArea[] = [
   { folder: 'packages/thermo', prefixes: ['THERMO_', 'UNIT_', 'GAS_'], catalog: THERMO_ERRORS },
   { folder: 'packages/plant', prefixes: ['PLANT_'], catalog: PLANT_ERRORS },
   { folder: 'packages/monitor', prefixes: ['MONITOR_'], catalog: MONITOR_ERRORS },
+  { folder: 'packages/compute', prefixes: ['COMPUTE_'], catalog: COMPUTE_ERRORS },
   { folder: 'packages/codec', prefixes: ['CODEC_'], catalog: CODEC_ERRORS },
   { folder: 'packages/store', prefixes: ['STORE_'], catalog: STORE_ERRORS },
   { folder: 'services/ingest', prefixes: ['INGEST_'], catalog: INGEST_ERRORS },

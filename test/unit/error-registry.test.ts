@@ -63,6 +63,21 @@ describe('the error registry', () => {
     expect(unknown, 'codes used in source but declared in no catalog').toEqual([]);
   });
 
+  it('marks as retired every code that nothing raises any more', () => {
+    const used = new Set<string>();
+    const folders = new Set([...ERROR_AREAS.map((a) => a.folder), 'services/demo']);
+    for (const folder of folders) {
+      for (const file of sourceFiles(folder)) {
+        for (const code of codeLiterals(readFileSync(file, 'utf8'), allPrefixes)) used.add(code);
+      }
+    }
+    const idle = registeredErrors().filter((e) => !e.retired && !used.has(e.code));
+    expect(
+      idle.map((e) => `${e.folder}: ${e.code}`),
+      'declared codes nothing raises: mark them retired',
+    ).toEqual([]);
+  });
+
   it('fails on a code declared in two areas, or with a foreign prefix (the checks above can fail)', () => {
     const a: ErrorArea = { folder: 'a', prefixes: ['A_'], catalog: { A_ONE: { meaning: 'one' } } };
     const b: ErrorArea = { folder: 'b', prefixes: ['B_'], catalog: { A_ONE: { meaning: 'again' } } };

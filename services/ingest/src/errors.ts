@@ -11,11 +11,15 @@ export const INGEST_ERRORS = {
       'The file could not be read at all (empty, no header, wrong layout); it goes to the rejected folder.',
   },
   INGEST_BAD_OPTIONS: { meaning: 'A source option is invalid (time zone, delimiter, time format).' },
-  INGEST_UNKNOWN_SOURCE: { meaning: 'No source with this id in the plant file.' },
+  INGEST_UNKNOWN_SOURCE: { meaning: 'No source with this id in the plant file.', retired: true },
   INGEST_BUFFER_FULL: {
     meaning: 'The on-disk buffer reached its size limit; the newest samples were refused.',
+    retired: true,
   },
-  INGEST_BUFFER_CORRUPT: { meaning: 'A buffer segment holds a line that cannot be read back.' },
+  INGEST_BUFFER_CORRUPT: {
+    meaning: 'A buffer segment holds a line that cannot be read back.',
+    retired: true,
+  },
   INGEST_WRITE_FAILED: { meaning: 'Writing samples to the database failed.' },
   INGEST_OPCUA_CONNECT: { meaning: 'Could not connect to the OPC UA endpoint.' },
   INGEST_STOPPED: { meaning: 'The ingest service was stopped.' },

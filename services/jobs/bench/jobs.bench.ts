@@ -15,10 +15,10 @@
  * table, so each figure is of a first backfill of history written some time before.
  */
 import { randomBytes } from 'node:crypto';
+import { defaultFluidResolver } from '@isentrope/compute';
 import { ensurePartitions, migrate } from '@isentrope/store';
 import { dryAir, type Fluid, normalVolumeFlowToMassFlow } from '@isentrope/thermo';
 import pg from 'pg';
-import { defaultFluidResolver } from '../src/compute/config.js';
 import { backfill, runComputeOnce } from '../src/compute/job.js';
 import { ComputeWorkers } from '../src/compute/workers.js';
 
@@ -40,30 +40,31 @@ interface KindSpec {
   readonly tags: readonly (readonly [string, string, unknown, number, number, boolean])[];
 }
 
-/** Design readings from the thermo models at an invented efficiency. */
-function kinds(): KindSpec[] {
+type Outlet = (
+  f: Fluid,
+  pIn: number,
+  tIn: number,
+  pOut: number,
+  eta: number,
+  turbine: boolean,
+) => { tOut: number; dh: number };
+
+/** Outlet temperature [K] and enthalpy change [J/kg] at an invented efficiency, from the thermo models. */
+const outlet: Outlet = (f, pIn, tIn, pOut, eta, turbine) => {
+  const a = f.statePT(pIn, tIn);
+  const hs = f.statePS(pOut, a.s).h;
+  const hOut = turbine ? a.h - eta * (a.h - hs) : a.h + (hs - a.h) / eta;
+  return { tOut: f.statePH(pOut, hOut).T, dh: Math.abs(hOut - a.h) };
+};
+const abs = (a: number) => ({ absolute: a });
+const span = (p: number, s: number) => ({ percentOfSpan: p, span: s });
+const rdg = (p: number) => ({ percentOfReading: p });
+
+/** The water machines: a back-pressure steam turbine and a boiler feed pump (IAPWS-IF97). */
+function waterKinds(): KindSpec[] {
   const water = defaultFluidResolver('water');
-  const air = defaultFluidResolver('air');
-  const gas = defaultFluidResolver({
-    composition: { CH4: 0.92, C2H6: 0.04, C3H8: 0.01, N2: 0.02, CO2: 0.01 },
-    model: 'peng-robinson',
-  });
-  const outlet = (f: Fluid, pIn: number, tIn: number, pOut: number, eta: number, turbine: boolean) => {
-    const a = f.statePT(pIn, tIn);
-    const hs = f.statePS(pOut, a.s).h;
-    const hOut = turbine ? a.h - eta * (a.h - hs) : a.h + (hs - a.h) / eta;
-    return { tOut: f.statePH(pOut, hOut).T, dh: Math.abs(hOut - a.h) };
-  };
   const st = outlet(water, 40e5 + AMBIENT, 673.15, 3.5e5 + AMBIENT, 0.8, true);
   const bfp = outlet(water, 5e5 + AMBIENT, 378.15, 60e5 + AMBIENT, 0.75, false);
-  const ac = outlet(air, AMBIENT - 1500, 293.15, 7e5 + AMBIENT, 0.82, false);
-  const gb = outlet(gas, 20e5 + AMBIENT, 288.15, 35e5 + AMBIENT, 0.78, false);
-  const fan = outlet(air, AMBIENT - 500, 423.15, AMBIENT + 2500, 0.8, false);
-  const acMass = normalVolumeFlowToMassFlow(2600 / 3600, dryAir().molarMass, 'normal');
-  const fanMass = (110_000 / 3600) * air.statePT(AMBIENT - 500, 423.15).v ** -1;
-  const abs = (a: number) => ({ absolute: a });
-  const span = (p: number, s: number) => ({ percentOfSpan: p, span: s });
-  const rdg = (p: number) => ({ percentOfReading: p });
   return [
     {
       kind: 'turbine',
@@ -91,6 +92,22 @@ function kinds(): KindSpec[] {
         ['electricalPower', 'kW', rdg(0.5), ((30 / 3.6) * bfp.dh) / 0.95 / 1e3, 0.2, true],
       ],
     },
+  ];
+}
+
+/** The gas machines: an air compressor, a natural-gas compressor (Peng-Robinson) and a fan. */
+function gasKinds(): KindSpec[] {
+  const air = defaultFluidResolver('air');
+  const gas = defaultFluidResolver({
+    composition: { CH4: 0.92, C2H6: 0.04, C3H8: 0.01, N2: 0.02, CO2: 0.01 },
+    model: 'peng-robinson',
+  });
+  const ac = outlet(air, AMBIENT - 1500, 293.15, 7e5 + AMBIENT, 0.82, false);
+  const gb = outlet(gas, 20e5 + AMBIENT, 288.15, 35e5 + AMBIENT, 0.78, false);
+  const fan = outlet(air, AMBIENT - 500, 423.15, AMBIENT + 2500, 0.8, false);
+  const acMass = normalVolumeFlowToMassFlow(2600 / 3600, dryAir().molarMass, 'normal');
+  const fanMass = (110_000 / 3600) * air.statePT(AMBIENT - 500, 423.15).v ** -1;
+  return [
     {
       kind: 'compressor',
       fluid: 'air',
@@ -134,6 +151,11 @@ function kinds(): KindSpec[] {
       ],
     },
   ];
+}
+
+/** Design readings from the thermo models at an invented efficiency. */
+function kinds(): KindSpec[] {
+  return [...waterKinds(), ...gasKinds()];
 }
 
 /** Machines and their samples (generate_series in SQL: a slow +-5 % load swing and uniform noise). */

@@ -11,11 +11,20 @@ export const JOBS_ERRORS = {
     meaning:
       "A machine's or tag's configuration cannot be used for computing (the field and value are given).",
   },
-  JOBS_FLUID_UNAVAILABLE: { meaning: 'The property model the machine needs is not available in this build.' },
+  JOBS_FLUID_UNAVAILABLE: {
+    meaning: 'The property model the machine needs is not available in this build.',
+    retired: true,
+  },
   JOBS_BAD_RANGE: { meaning: 'A time range is empty, reversed or not finite.' },
   JOBS_NOT_FOUND: { meaning: 'The machine or alert asked for does not exist.' },
-  JOBS_ALERT_REJECTED: { meaning: 'The alert lifecycle refused the action (the reducer code is given).' },
-  JOBS_REPORT_UNAVAILABLE: { meaning: 'The monthly report builder is not wired in; no report was made.' },
+  JOBS_ALERT_REJECTED: {
+    meaning: 'The alert lifecycle refused the action (the reducer code is given).',
+    retired: true,
+  },
+  JOBS_REPORT_UNAVAILABLE: {
+    meaning: 'The monthly report builder is not wired in; no report was made.',
+    retired: true,
+  },
   JOBS_BAD_SAMPLES: {
     meaning: 'The database sent sample rows in a form the reader does not expect (the offset is given).',
   },

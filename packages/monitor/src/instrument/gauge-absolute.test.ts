@@ -1,11 +1,4 @@
-import { toSI } from '@isentrope/thermo';
 import { describe, expect, it } from 'vitest';
-import {
-  DEMO_AMBIENT_PRESSURE,
-  DEMO_TAGS,
-  demoReading,
-  machineTruth,
-} from '../../../../services/demo/src/scenario.js';
 import {
   LengthMismatchError,
   MonitorBadInputError,
@@ -163,33 +156,6 @@ describe('detectGaugeAbsoluteStep', () => {
     expect(detectGaugeAbsoluteStep({ ...s, valid })).toEqual([]);
     expect(detectGaugeAbsoluteStep(s)).toHaveLength(2);
   });
-
-  it("finds the demo's GB1.PI-10 mix-up: exactly one reads-high step near 80 % of a 14-day span", () => {
-    // DEMO DATA - INVENTED (services/demo): from 80 % of the span the barg tag is fed absolute values.
-    const span = { start: T0, end: T0 + 14 * 86_400_000 };
-    const tagIndex = DEMO_TAGS.findIndex((tag) => tag.name === 'GB1.PI-10');
-    expect(tagIndex).toBeGreaterThanOrEqual(0);
-    const step = MIN; // the demo history's 1-minute readings
-    const n = (span.end - span.start) / step;
-    const t = new Float64Array(n);
-    const value = new Float64Array(n);
-    for (let i = 0; i < n; i++) {
-      const ti = span.start + i * step;
-      t[i] = ti;
-      const reading = demoReading(span, tagIndex, ti, machineTruth(span, 'gb-1', ti));
-      value[i] =
-        reading === undefined
-          ? Number.NaN
-          : toSI(reading, 'barg', { ambientPressure: DEMO_AMBIENT_PRESSURE });
-    }
-    const found = detectGaugeAbsoluteStep({ t, value, ambientPressure: DEMO_AMBIENT_PRESSURE });
-    expect(found).toHaveLength(1);
-    const f = found[0]!;
-    expect(f.direction).toBe('reads-high');
-    const at80 = span.start + 0.8 * (span.end - span.start);
-    expect(Math.abs(f.at - at80)).toBeLessThanOrEqual(15 * step); // within one window
-    expect(Math.abs(f.shift - DEMO_AMBIENT_PRESSURE)).toBeLessThan(0.05 * DEMO_AMBIENT_PRESSURE);
-  }, 30_000);
 
   it('rejects bad input with typed errors carrying the values', () => {
     const s = series(100, () => 0);

@@ -186,18 +186,13 @@ function fitStep(y: Float64Array, tt: Float64Array, k: number, w: number): StepF
   return { levelBefore: medianInPlace(before), levelAfter: medianInPlace(after) };
 }
 
-/**
- * Finds lasting level shifts of about +/- one ambient pressure in a pressure tag (a gauge/absolute
- * mix-up; method in the module comment). Findings are in time order.
- * Throws LengthMismatchError, UnsortedTimesError, MonitorBadInputError (options, ambient, non-finite
- * time) and TooFewPointsError (fewer than 2 x windowPoints usable readings).
- */
-export function detectGaugeAbsoluteStep(
-  input: GaugeAbsoluteInput,
-  options: GaugeAbsoluteOptions = {},
-): GaugeAbsoluteFinding[] {
-  const { t, value, ambientPressure: ambient, valid } = input;
-  checkAmbientPressure(ambient);
+interface StepSettings {
+  readonly w: number;
+  readonly tolerance: number;
+  readonly persist: number;
+}
+
+function stepSettings(options: GaugeAbsoluteOptions): StepSettings {
   const w = options.windowPoints ?? 15;
   const tolerance = options.tolerance ?? 0.15;
   const persist = options.minPersistPoints ?? w;
@@ -206,11 +201,23 @@ export function detectGaugeAbsoluteStep(
     throw new MonitorBadInputError('tolerance', tolerance, 'fraction of ambient in (0, 0.5)');
   if (!(Number.isInteger(persist) && persist >= 1))
     throw new MonitorBadInputError('minPersistPoints', persist, 'integer >= 1');
+  return { w, tolerance, persist };
+}
+
+/** The usable readings in order: values, times and their input indices. */
+interface Usable {
+  readonly y: Float64Array;
+  readonly tt: Float64Array;
+  readonly index: Int32Array;
+  readonly m: number;
+}
+
+/** Step 1: the usable readings (valid, finite), after checking the times are finite and sorted. */
+function usableReadings(input: GaugeAbsoluteInput, w: number): Usable {
+  const { t, value, valid } = input;
   const n = t.length;
   if (value.length !== n) throw new LengthMismatchError('value', n, value.length);
   if (valid !== undefined && valid.length !== n) throw new LengthMismatchError('valid', n, valid.length);
-
-  // Step 1: the usable readings, in order, with their input indices.
   const index = new Int32Array(n);
   let m = 0;
   let previous = Number.NEGATIVE_INFINITY;
@@ -230,75 +237,118 @@ export function detectGaugeAbsoluteStep(
     y[j] = value[i] as number;
     tt[j] = t[i] as number;
   }
+  return { y, tt, index, m };
+}
 
+/** Step 3: the split with the fewest readings on the wrong side of the midpoint; -1 when none fits. */
+function bestSplit(
+  u: Usable,
+  med: Float64Array,
+  w: number,
+  runStart: number,
+  runEnd: number,
+  peak: number,
+): number {
+  const { y, m } = u;
+  const low = med[peak - 1] as number;
+  const high = med[peak + w - 1] as number;
+  const mid = (low + high) / 2;
+  const up = high > low ? 1 : -1;
+  const a = Math.max(0, runStart - w);
+  const b = Math.min(m, runEnd + w);
+  let cost = 0;
+  for (let j = a; j < b; j++) if (up * ((y[j] as number) - mid) <= 0) cost++;
+  let best = Number.POSITIVE_INFINITY;
+  let k = -1;
+  for (let s = a; s < b; s++) {
+    // cost is the count for split s (new level from s on); moving past s updates it.
+    if (cost < best && s >= w && s + w <= m) {
+      best = cost;
+      k = s;
+    }
+    cost += up * ((y[s] as number) - mid) > 0 ? 1 : -1;
+  }
+  return k;
+}
+
+/** Step 5, second part: both levels hold for `persist` readings either side of split k. */
+function persists(y: Float64Array, m: number, k: number, fit: StepFit, persist: number): boolean {
+  if (k + persist > m) return false;
+  const shift = fit.levelAfter - fit.levelBefore;
+  const threshold = fit.levelBefore + shift / 2;
+  const sign = shift > 0 ? 1 : -1;
+  let onNew = 0;
+  for (let j = k; j < k + persist; j++) if (sign * ((y[j] as number) - threshold) > 0) onNew++;
+  if (onNew < MIN_PERSIST_FRACTION * persist) return false;
+  const from = Math.max(0, k - persist);
+  let onOld = 0;
+  for (let j = from; j < k; j++) if (sign * ((y[j] as number) - threshold) < 0) onOld++;
+  return onOld >= MIN_PERSIST_FRACTION * (k - from);
+}
+
+/** A step found at split k, marked as reverting the previous finding when it returns to its level. */
+function findingAt(
+  input: GaugeAbsoluteInput,
+  u: Usable,
+  k: number,
+  fit: StepFit,
+  prior: GaugeAbsoluteFinding | undefined,
+  band: number,
+): GaugeAbsoluteFinding {
+  const ambient = input.ambientPressure;
+  const shift = fit.levelAfter - fit.levelBefore;
+  const direction: GaugeAbsoluteDirection = shift > 0 ? 'reads-high' : 'reads-low';
+  const reverts =
+    prior !== undefined &&
+    prior.direction !== direction &&
+    Math.abs(fit.levelAfter - prior.levelBefore) <= band
+      ? prior.at
+      : undefined;
+  const i = u.index[k] as number;
+  return {
+    at: input.t[i] as number,
+    index: i,
+    direction,
+    shift,
+    shiftInAmbients: shift / ambient,
+    levelBefore: fit.levelBefore,
+    levelAfter: fit.levelAfter,
+    likelyCause: causeOf(direction),
+    ...(reverts === undefined ? {} : { revertsAt: reverts }),
+  };
+}
+
+/**
+ * Finds lasting level shifts of about +/- one ambient pressure in a pressure tag (a gauge/absolute
+ * mix-up; method in the module comment). Findings are in time order.
+ * Throws LengthMismatchError, UnsortedTimesError, MonitorBadInputError (options, ambient, non-finite
+ * time) and TooFewPointsError (fewer than 2 x windowPoints usable readings).
+ */
+export function detectGaugeAbsoluteStep(
+  input: GaugeAbsoluteInput,
+  options: GaugeAbsoluteOptions = {},
+): GaugeAbsoluteFinding[] {
+  const ambient = input.ambientPressure;
+  checkAmbientPressure(ambient);
+  const { w, tolerance, persist } = stepSettings(options);
+  const u = usableReadings(input, w);
+  const m = u.m;
   // Step 2: D_i = M[i+w-1] - M[i-1] (after-window median minus before-window median).
-  const med = runningMedian(y, w);
+  const med = runningMedian(u.y, w);
   const screen = ambient / 2;
   const band = tolerance * ambient;
   const findings: GaugeAbsoluteFinding[] = [];
   let lastK = Number.NEGATIVE_INFINITY;
-
   const consider = (runStart: number, runEnd: number, peak: number): void => {
-    // Step 3: the split with the fewest readings on the wrong side of the midpoint.
-    const low = med[peak - 1] as number;
-    const high = med[peak + w - 1] as number;
-    const mid = (low + high) / 2;
-    const up = high > low ? 1 : -1;
-    const a = Math.max(0, runStart - w);
-    const b = Math.min(m, runEnd + w);
-    let cost = 0;
-    for (let j = a; j < b; j++) if (up * ((y[j] as number) - mid) <= 0) cost++;
-    let best = Number.POSITIVE_INFINITY;
-    let k = -1;
-    for (let s = a; s < b; s++) {
-      // cost is the count for split s (new level from s on); moving past s updates it.
-      if (cost < best && s >= w && s + w <= m) {
-        best = cost;
-        k = s;
-      }
-      cost += up * ((y[s] as number) - mid) > 0 ? 1 : -1;
-    }
+    const k = bestSplit(u, med, w, runStart, runEnd, peak);
     if (k < 0 || k - lastK < w) return;
-
-    // Step 4: size of the step with a common local slope.
-    const fit = fitStep(y, tt, k, w);
-    const shift = fit.levelAfter - fit.levelBefore;
-    // Step 5: size, then persistence of both levels.
-    if (Math.abs(Math.abs(shift) - ambient) > band) return;
-    if (k + persist > m) return;
-    const threshold = fit.levelBefore + shift / 2;
-    const sign = shift > 0 ? 1 : -1;
-    let onNew = 0;
-    for (let j = k; j < k + persist; j++) if (sign * ((y[j] as number) - threshold) > 0) onNew++;
-    if (onNew < MIN_PERSIST_FRACTION * persist) return;
-    const from = Math.max(0, k - persist);
-    let onOld = 0;
-    for (let j = from; j < k; j++) if (sign * ((y[j] as number) - threshold) < 0) onOld++;
-    if (onOld < MIN_PERSIST_FRACTION * (k - from)) return;
-
-    const direction: GaugeAbsoluteDirection = shift > 0 ? 'reads-high' : 'reads-low';
-    const prior = findings[findings.length - 1];
-    const reverts =
-      prior !== undefined &&
-      prior.direction !== direction &&
-      Math.abs(fit.levelAfter - prior.levelBefore) <= band
-        ? prior.at
-        : undefined;
-    const i = index[k] as number;
-    findings.push({
-      at: t[i] as number,
-      index: i,
-      direction,
-      shift,
-      shiftInAmbients: shift / ambient,
-      levelBefore: fit.levelBefore,
-      levelAfter: fit.levelAfter,
-      likelyCause: causeOf(direction),
-      ...(reverts === undefined ? {} : { revertsAt: reverts }),
-    });
+    // Step 4: size of the step with a common local slope; step 5: its size, then persistence.
+    const fit = fitStep(u.y, u.tt, k, w);
+    if (Math.abs(Math.abs(fit.levelAfter - fit.levelBefore) - ambient) > band) return;
+    if (!persists(u.y, m, k, fit, persist)) return;
+    findings.push(findingAt(input, u, k, fit, findings[findings.length - 1], band));
     lastK = k;
   };
-
   let runStart = -1;
   let runSign = 0;
   let peak = -1;

@@ -1,11 +1,4 @@
-import { toSI } from '@isentrope/thermo';
 import { describe, expect, it } from 'vitest';
-import {
-  DEMO_AMBIENT_PRESSURE,
-  DEMO_TAGS,
-  demoReading,
-  machineTruth,
-} from '../../../../services/demo/src/scenario.js';
 import { LengthMismatchError, MonitorBadInputError, TooFewPointsError } from '../errors.js';
 import { seededNormal } from '../synthetic.js';
 import { detectGaugeAbsoluteStep } from './gauge-absolute.js';
@@ -121,39 +114,6 @@ describe('pressureRatioConsistency', () => {
     expect(r.mixUp).toMatchObject({ tag: 'outlet', direction: 'reads-high' });
     expect(Math.abs(r.exponentBefore - expansion)).toBeLessThan(0.005);
   });
-
-  it("confirms the demo's GB1.PI-10 mix-up through gb-1's temperatures", () => {
-    // DEMO DATA - INVENTED (services/demo): 14-day span, readings a minute, one day either side of 80 %.
-    const span = { start: T0, end: T0 + 14 * 86_400_000 };
-    const names = ['GB1.PI-10', 'GB1.PI-20', 'GB1.TI-10', 'GB1.TI-20'];
-    const idx = names.map((name) => DEMO_TAGS.findIndex((tag) => tag.name === name));
-    expect(idx.every((i) => i >= 0)).toBe(true);
-    const from = span.start + 0.8 * (span.end - span.start) - 86_400_000;
-    const n = 2 * 1440;
-    const t = new Float64Array(n);
-    const cols = names.map(() => new Float64Array(n));
-    for (let i = 0; i < n; i++) {
-      const ti = from + i * MIN;
-      t[i] = ti;
-      const truth = machineTruth(span, 'gb-1', ti);
-      idx.forEach((tagIndex, c) => {
-        const v = demoReading(span, tagIndex, ti, truth);
-        const col = cols[c]!;
-        if (v === undefined) col[i] = Number.NaN;
-        else if (c < 2) col[i] = toSI(v, 'barg', { ambientPressure: DEMO_AMBIENT_PRESSURE });
-        else col[i] = toSI(v, 'degC');
-      });
-    }
-    const [pIn, pOut, TIn, TOut] = cols as [Float64Array, Float64Array, Float64Array, Float64Array];
-    const steps = detectGaugeAbsoluteStep({ t, value: pIn, ambientPressure: DEMO_AMBIENT_PRESSURE });
-    expect(steps).toHaveLength(1);
-    const r = pressureRatioConsistency(
-      { t, pIn, pOut, TIn, TOut, ambientPressure: DEMO_AMBIENT_PRESSURE },
-      steps[0]!.at,
-    );
-    expect(r.verdict).toBe('mix-up');
-    expect(r.mixUp).toMatchObject({ tag: 'inlet', direction: 'reads-high' });
-  }, 30_000);
 
   it('rejects bad input with typed errors', () => {
     const s = machine(gasCompressor());

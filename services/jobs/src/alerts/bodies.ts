@@ -1,7 +1,8 @@
 /**
  * The job bodies of the analysis layer, as startJobs installs them:
- *  - alerts (each minute, after compute): the instrument step (gauge/absolute mix-ups flagged on
- *    the results the compute job wrote), the analysis pass (baseline, drift series, machine
+ *  - alerts (each minute, after compute): the instrument step (gauge/absolute mix-ups found on
+ *    the results the compute job wrote; a new or ended finding has the compute pass recompute the
+ *    rows it covers, flagged), the analysis pass (baseline, drift series, machine
  *    status), then the alert pass, in that order, under the one lock of the 'alerts' job: the
  *    flags must be on the results before the drift statistics and the alert bands read them;
  *  - notifications (every 10 s): one drain of the outbox;
@@ -62,8 +63,7 @@ export function analysisJobBodies(deps: {
           standing: instrument.standing,
           dismissed: instrument.dismissed,
           reverted: instrument.reverted,
-          flaggedRows: instrument.flaggedRows,
-          notPositiveRows: instrument.notPositiveRows,
+          recomputedRows: instrument.recomputedRows,
         },
         analysed: analysis.length,
         driftRows: analysis.reduce((s, a) => s + a.driftRows, 0),

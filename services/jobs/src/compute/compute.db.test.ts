@@ -1,3 +1,5 @@
+import type { ResultRow } from '@isentrope/compute';
+import { defaultFluidResolver, type FluidResolver } from '@isentrope/compute';
 import { perfectGas } from '@isentrope/thermo';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
@@ -5,15 +7,14 @@ import { readResults } from '../queries/results.js';
 import {
   flowFraction,
   type SeededMachine,
+  SYNTHETIC_AIR_COMPRESSOR,
   type SyntheticMachine,
   seedMachine,
   seedSamples,
   seedSite,
   trueEfficiency,
 } from '../testing/synthetic.js';
-import { defaultFluidResolver, type FluidResolver } from './config.js';
 import { backfill, runComputeOnce } from './job.js';
-import type { ResultRow } from './pipeline.js';
 
 // Air as a constant-cp perfect gas (R = 287.05 J/(kg K), cp = 1005 J/(kg K), common practice, no
 // source): the synthetic truth is made with the same model, so any error is the pipeline's.
@@ -49,16 +50,7 @@ const EXPANDER: SyntheticMachine = {
   eta0: 0.84,
   ratePtsPerDay: -0.05,
 };
-const COMPRESSOR: SyntheticMachine = {
-  slug: 'ac-1',
-  kind: 'compressor',
-  pIn: 101_325 + 2000,
-  tIn: 293.15,
-  pOut: 8e5,
-  massFlow: 3,
-  eta0: 0.8,
-  ratePtsPerDay: -0.05,
-};
+const COMPRESSOR = SYNTHETIC_AIR_COMPRESSOR;
 
 let db: TestDatabase;
 let ex: SeededMachine;

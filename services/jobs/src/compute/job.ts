@@ -3,8 +3,25 @@
  * range, with progress). Both call the same pure pipeline on the same fixed segments, so they
  * write identical rows (tested in compute.db.test.ts).
  */
+
+import {
+  type ComputeOptions,
+  computeRange,
+  computeRangeInto,
+  defaultFluidResolver,
+  type FindingFlag,
+  type FluidResolver,
+  type MachineRow,
+  type PreparedMachine,
+  prepareMachine,
+  type RawSeries,
+  type ResolvedComputeOptions,
+  type ResultRow,
+  resolveComputeOptions,
+} from '@isentrope/compute';
 import type pg from 'pg';
 import { JobsError } from '../errors.js';
+import { readFindingFlags } from '../instrument/findings-store.js';
 import { loadMachines } from '../queries/machines.js';
 import {
   copyResultsRange,
@@ -16,16 +33,6 @@ import {
 } from '../queries/results.js';
 import { ResultCopyBody } from '../queries/results-copy.js';
 import { earliestSample, readSamples } from '../queries/samples.js';
-import { defaultFluidResolver, type FluidResolver, type PreparedMachine, prepareMachine } from './config.js';
-import {
-  type ComputeOptions,
-  computeRange,
-  computeRangeInto,
-  type RawSeries,
-  type ResolvedComputeOptions,
-  type ResultRow,
-  resolveComputeOptions,
-} from './pipeline.js';
 import { ComputeWorkers, defaultComputeThreads } from './workers.js';
 
 export interface ComputeJobOptions extends ComputeOptions {
@@ -83,6 +90,7 @@ export async function computeMachineRange(
   chunkMs = 86_400_000,
   onChunk?: (doneToMs: number, points: number) => void,
   workers?: ComputeWorkers,
+  findings: readonly FindingFlag[] = [],
 ): Promise<number> {
   const ids = allTagIds(machine);
   // Chunks end on segment boundaries so each segment is read whole.
@@ -116,8 +124,8 @@ export async function computeMachineRange(
     // On a worker the rows come back encoded; in process they are encoded here.
     const { body, rows } =
       workers === undefined
-        ? encodeInProcess(machine, samples, a, b, o)
-        : await workers.compute(machine.row, samples, a, b, o);
+        ? encodeInProcess(machine, samples, a, b, o, findings)
+        : await workers.compute(machine.row, samples, a, b, o, findings);
     await writing;
     writing = settleLater(
       (async () => {
@@ -138,9 +146,10 @@ function encodeInProcess(
   fromMs: number,
   toMs: number,
   o: ResolvedComputeOptions,
+  findings: readonly FindingFlag[],
 ): { body: Buffer; rows: number } {
   const out = new ResultCopyBody(machine.row.id, fromMs, toMs, Math.ceil((toMs - fromMs) / o.stepMs));
-  computeRangeInto(machine, samples, fromMs, toMs, o, (row) => out.add(row));
+  computeRangeInto(machine, samples, fromMs, toMs, o, (row) => out.add(row), findings);
   return { body: out.finish(), rows: out.rows };
 }
 
@@ -151,11 +160,116 @@ interface Planned {
   readonly to: number;
 }
 
+/** What an incremental run has found so far, and where it reports a machine it cannot compute. */
+interface RunTally {
+  points: number;
+  failed: number;
+  recomputed: number;
+  readonly fail: (machineId: number, error: unknown) => void;
+}
+
+/**
+ * Machines one segment or less behind over the same range: one sample query, one results
+ * statement and one watermark statement for all of them.
+ */
+async function computeBatch(
+  pool: pg.Pool,
+  group: readonly Planned[],
+  o: ResolvedComputeOptions,
+  findings: ReadonlyMap<number, readonly FindingFlag[]>,
+  tally: RunTally,
+): Promise<void> {
+  const { from, to } = group[0] as Planned;
+  const segA = Math.floor(from / o.segmentMs) * o.segmentMs;
+  const segB = Math.ceil(to / o.segmentMs) * o.segmentMs;
+  let samples: Awaited<ReturnType<typeof readSamples>>;
+  try {
+    samples = await readSamples(
+      pool,
+      group.flatMap((p) => allTagIds(p.machine)),
+      segA - o.lookbackPoints * o.stepMs - o.maxAgeMs,
+      segB + (o.spikeHalfWindow + 1) * o.stepMs,
+    );
+  } catch (error) {
+    for (const p of group) tally.fail(p.machine.row.id, error);
+    return;
+  }
+  const out: ResultRow[] = [];
+  const done: Planned[] = [];
+  for (const p of group) {
+    try {
+      for (const r of computeRange(p.machine, samples, from, to, o, findings.get(p.machine.row.id)))
+        out.push(r);
+      done.push(p);
+    } catch (error) {
+      tally.fail(p.machine.row.id, error);
+    }
+  }
+  try {
+    await ensureResultPartitions(pool, from, to);
+    await writeResults(pool, out);
+    await writeComputeWatermarks(
+      pool,
+      done.map((p) => ({ machineId: p.machine.row.id, configHash: p.machine.configHash, watermarkMs: to })),
+    );
+    tally.points += out.length;
+  } catch (error) {
+    for (const p of done) tally.fail(p.machine.row.id, error);
+  }
+}
+
+/**
+ * One machine of an incremental run: far behind, it catches up here in chunks; one segment or
+ * less behind, it is returned to be computed with the batch.
+ */
+async function planMachine(
+  pool: pg.Pool,
+  row: MachineRow,
+  mark: { watermarkMs: number; configHash: string } | undefined,
+  horizon: number,
+  o: ResolvedComputeOptions,
+  options: ComputeJobOptions,
+  findings: readonly FindingFlag[] | undefined,
+  tally: RunTally,
+): Promise<Planned | undefined> {
+  const machine = prepareMachine(row, options.fluids ?? defaultFluidResolver);
+  let from = mark?.watermarkMs;
+  if (mark === undefined || mark.configHash !== machine.configHash) {
+    // New machine, or a unit / configuration change: (re)compute from the first sample.
+    if (mark !== undefined) tally.recomputed++;
+    const first = await earliestSample(pool, allTagIds(machine));
+    if (first === undefined) return undefined;
+    from = Math.floor(first / o.stepMs) * o.stepMs;
+  }
+  if (from === undefined) return undefined;
+  const to = Math.min(horizon, from + (options.maxCatchUpMs ?? 86_400_000));
+  if (to <= from) {
+    if (mark?.configHash !== machine.configHash)
+      await writeComputeWatermark(pool, row.id, machine.configHash, from);
+    return undefined;
+  }
+  if (to - from <= o.segmentMs) return { machine, from, to };
+  tally.points += await computeMachineRange(
+    pool,
+    machine,
+    from,
+    to,
+    o,
+    86_400_000,
+    undefined,
+    undefined,
+    findings,
+  );
+  await writeComputeWatermark(pool, row.id, machine.configHash, to);
+  return undefined;
+}
+
 /**
  * One incremental run over every machine (or the given ones). Machines one segment or less behind
  * (the steady state of a minute-by-minute schedule) are read, computed and written together: one
  * sample query, one results statement and one watermark statement per run; machines further
- * behind catch up one by one in chunks.
+ * behind catch up one by one in chunks. The stored instrument findings are read once and flag the
+ * rows they cover.
  */
 export async function runComputeOnce(
   pool: pg.Pool,
@@ -166,41 +280,32 @@ export async function runComputeOnce(
   const horizon = computeHorizon(now, options.settleMs ?? 120_000, o);
   const rows = await loadMachines(pool, options.machineIds);
   const marks = await readComputeWatermarks(pool, options.machineIds);
-  let points = 0;
-  let failed = 0;
-  let recomputed = 0;
-  const fail = (id: number, error: unknown): void => {
-    failed++;
-    options.onMachineError?.(id, error);
+  const findings = await readFindingFlags(pool, options.machineIds);
+  const tally: RunTally = {
+    points: 0,
+    failed: 0,
+    recomputed: 0,
+    fail: (id, error) => {
+      tally.failed++;
+      options.onMachineError?.(id, error);
+    },
   };
   const batch: Planned[] = [];
   for (const row of rows) {
     try {
-      const machine = prepareMachine(row, options.fluids ?? defaultFluidResolver);
-      const mark = marks.get(row.id);
-      let from = mark?.watermarkMs;
-      if (mark === undefined || mark.configHash !== machine.configHash) {
-        // New machine, or a unit / configuration change: (re)compute from the first sample.
-        if (mark !== undefined) recomputed++;
-        const first = await earliestSample(pool, allTagIds(machine));
-        if (first === undefined) continue;
-        from = Math.floor(first / o.stepMs) * o.stepMs;
-      }
-      if (from === undefined) continue;
-      const to = Math.min(horizon, from + (options.maxCatchUpMs ?? 86_400_000));
-      if (to <= from) {
-        if (mark?.configHash !== machine.configHash)
-          await writeComputeWatermark(pool, row.id, machine.configHash, from);
-        continue;
-      }
-      if (to - from <= o.segmentMs) {
-        batch.push({ machine, from, to });
-        continue;
-      }
-      points += await computeMachineRange(pool, machine, from, to, o, 86_400_000);
-      await writeComputeWatermark(pool, row.id, machine.configHash, to);
+      const p = await planMachine(
+        pool,
+        row,
+        marks.get(row.id),
+        horizon,
+        o,
+        options,
+        findings.get(row.id),
+        tally,
+      );
+      if (p !== undefined) batch.push(p);
     } catch (error) {
-      fail(row.id, error);
+      tally.fail(row.id, error);
     }
   }
   // The batch, grouped by range (usually one group: every machine one minute behind).
@@ -211,45 +316,8 @@ export async function runComputeOnce(
     if (g === undefined) groups.set(key, [p]);
     else g.push(p);
   }
-  for (const group of groups.values()) {
-    const { from, to } = group[0] as Planned;
-    const segA = Math.floor(from / o.segmentMs) * o.segmentMs;
-    const segB = Math.ceil(to / o.segmentMs) * o.segmentMs;
-    let samples: Awaited<ReturnType<typeof readSamples>>;
-    try {
-      samples = await readSamples(
-        pool,
-        group.flatMap((p) => allTagIds(p.machine)),
-        segA - o.lookbackPoints * o.stepMs - o.maxAgeMs,
-        segB + (o.spikeHalfWindow + 1) * o.stepMs,
-      );
-    } catch (error) {
-      for (const p of group) fail(p.machine.row.id, error);
-      continue;
-    }
-    const out: ResultRow[] = [];
-    const done: Planned[] = [];
-    for (const p of group) {
-      try {
-        for (const r of computeRange(p.machine, samples, from, to, o)) out.push(r);
-        done.push(p);
-      } catch (error) {
-        fail(p.machine.row.id, error);
-      }
-    }
-    try {
-      await ensureResultPartitions(pool, from, to);
-      await writeResults(pool, out);
-      await writeComputeWatermarks(
-        pool,
-        done.map((p) => ({ machineId: p.machine.row.id, configHash: p.machine.configHash, watermarkMs: to })),
-      );
-      points += out.length;
-    } catch (error) {
-      for (const p of done) fail(p.machine.row.id, error);
-    }
-  }
-  return { machines: rows.length, points, failed, recomputed };
+  for (const group of groups.values()) await computeBatch(pool, group, o, findings, tally);
+  return { machines: rows.length, points: tally.points, failed: tally.failed, recomputed: tally.recomputed };
 }
 
 export interface BackfillOptions extends ComputeOptions {
@@ -302,6 +370,18 @@ export interface BackfillStats {
 }
 
 /**
+ * Compute threads of a backfill. Threads take about half a second each to start and warm up, so a
+ * small range stays on the main thread unless workers are asked for; a backfill with its own
+ * `fluids` resolver always does (a function cannot be sent to a worker).
+ */
+function backfillThreads(options: BackfillOptions, total: number): number {
+  if (options.fluids !== undefined) return 0;
+  if (options.workers instanceof ComputeWorkers) return options.workers.threads;
+  if (typeof options.workers === 'number') return options.workers;
+  return total >= MIN_POINTS_FOR_WORKERS ? defaultComputeThreads() : 0;
+}
+
+/**
  * Recompute [from, to) for every machine (or the given ones). Does not move the incremental
  * watermark: rows written are the same rows the incremental run writes for these times.
  */
@@ -327,28 +407,22 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
   options.onProgress?.(0, total);
   // Every machine is prepared first, so a bad configuration fails before any row is written.
   const machines = rows.map((row) => prepareMachine(row, options.fluids ?? defaultFluidResolver));
-  // Threads take about half a second each to start and warm up, so a small range stays on the
-  // main thread unless workers are asked for.
+  const findings = await readFindingFlags(
+    pool,
+    machines.map((m) => m.row.id),
+  );
   const given = options.workers instanceof ComputeWorkers ? options.workers : undefined;
-  const threads =
-    options.fluids !== undefined
-      ? 0
-      : given !== undefined
-        ? given.threads
-        : typeof options.workers === 'number'
-          ? options.workers
-          : total >= MIN_POINTS_FOR_WORKERS
-            ? defaultComputeThreads()
-            : 0;
+  const threads = backfillThreads(options, total);
   const workers = threads === 0 ? undefined : (given ?? new ComputeWorkers(threads));
   // A few machines at once, so every worker has work while the others wait on the database.
   const lanes = Math.max(1, Math.min(options.concurrency ?? Math.max(3, threads + 1), machines.length));
   let nextMachine = 0;
   const lane = async (): Promise<void> => {
     for (let k = nextMachine++; k < machines.length; k = nextMachine++) {
+      const machine = machines[k] as PreparedMachine;
       await computeMachineRange(
         pool,
-        machines[k] as PreparedMachine,
+        machine,
         fromMs,
         toMs,
         o,
@@ -358,6 +432,7 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
           options.onProgress?.(done, total);
         },
         workers,
+        findings.get(machine.row.id),
       );
     }
   };
@@ -381,4 +456,44 @@ export async function backfill(pool: pg.Pool, options: BackfillOptions): Promise
     );
   }
   return { machines: rows.length, points: done, ms: Date.now() - started, workers: threads };
+}
+
+/** A range of a machine's stored rows and the grid they were computed on. */
+export interface StoredRange {
+  readonly fromMs: number;
+  readonly toMs: number;
+  readonly stepMs: number;
+}
+
+/**
+ * Recompute a machine's stored rows over the given ranges, each on its own grid (default settings
+ * otherwise), with the stored instrument findings: the instrument step calls this when a finding
+ * changes, so the rows carry its flag as the compute pass writes them, never by a later rewrite.
+ */
+export async function recomputeStoredRows(
+  pool: pg.Pool,
+  row: MachineRow,
+  ranges: readonly StoredRange[],
+  fluids: FluidResolver = defaultFluidResolver,
+): Promise<number> {
+  if (ranges.length === 0) return 0;
+  const machine = prepareMachine(row, fluids);
+  const findings = (await readFindingFlags(pool, [row.id])).get(row.id);
+  let points = 0;
+  for (const r of ranges) {
+    const o = resolveComputeOptions({ gridMs: r.stepMs });
+    const chunkMs = defaultChunkMs(o.stepMs);
+    points += await computeMachineRange(
+      pool,
+      machine,
+      r.fromMs,
+      r.toMs,
+      o,
+      chunkMs,
+      undefined,
+      undefined,
+      findings,
+    );
+  }
+  return points;
 }

@@ -3,9 +3,18 @@
  * pipeline as in-process runs and encoded as a COPY body where they were computed, so only bytes
  * travel back to the main thread (the rows as objects would cost more to copy than to encode).
  */
+
+import {
+  computeRangeInto,
+  defaultFluidResolver,
+  type FindingFlag,
+  type MachineRow,
+  type PreparedMachine,
+  prepareMachine,
+  type RawSeries,
+  type ResolvedComputeOptions,
+} from '@isentrope/compute';
 import { ResultCopyBody } from '../queries/results-copy.js';
-import { defaultFluidResolver, type MachineRow, type PreparedMachine, prepareMachine } from './config.js';
-import { computeRangeInto, type RawSeries, type ResolvedComputeOptions } from './pipeline.js';
 
 export interface ComputeTask {
   readonly machine: MachineRow;
@@ -13,6 +22,8 @@ export interface ComputeTask {
   readonly fromMs: number;
   readonly toMs: number;
   readonly options: ResolvedComputeOptions;
+  /** The flag intervals of the machine's stored instrument findings. */
+  readonly findings: readonly FindingFlag[];
 }
 
 export interface ComputeTaskResult {
@@ -37,7 +48,15 @@ export function runComputeTask(task: ComputeTask): ComputeTaskResult {
     task.toMs,
     Math.ceil((task.toMs - task.fromMs) / task.options.stepMs),
   );
-  computeRangeInto(machine, task.samples, task.fromMs, task.toMs, task.options, (row) => out.add(row));
+  computeRangeInto(
+    machine,
+    task.samples,
+    task.fromMs,
+    task.toMs,
+    task.options,
+    (row) => out.add(row),
+    task.findings,
+  );
   // The encoder's buffer belongs to this task alone, so it is moved back whole, not copied.
   return { body: out.finish(), rows: out.rows };
 }

@@ -1,3 +1,4 @@
+import { type RawSeries, type ResultRow, resolveComputeOptions } from '@isentrope/compute';
 import { dryAir } from '@isentrope/thermo';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
@@ -12,7 +13,6 @@ import {
   seedSite,
 } from '../testing/synthetic.js';
 import { backfill } from './job.js';
-import { type RawSeries, type ResultRow, resolveComputeOptions } from './pipeline.js';
 import { ComputeWorkers } from './workers.js';
 
 // INVENTED data (testing/synthetic.ts): an expander and a compressor on dry air, the default
@@ -67,12 +67,25 @@ async function results(): Promise<ResultRow[][]> {
 }
 
 describe('backfill on compute worker threads', () => {
-  it('writes exactly the rows the main thread writes', async () => {
+  it('writes exactly the rows the main thread writes, stored findings flagged alike', async () => {
+    // A stored gauge/absolute finding on ac-9's inlet over [T0 + 5 h, T0 + 8 h) (invented).
+    const ac = seeded[1] as SeededMachine;
+    await db.pool.query(
+      `INSERT INTO instrument_findings (machine_id, tag_id, role, kind, at, ended_at, status, direction, likely_cause,
+                                        shift_pa, shift_ambients, level_before_pa, level_after_pa, ambient_pa, cross_check)
+       VALUES ($1, $2, 'inletPressure', 'gauge-absolute', to_timestamp($3::float8 / 1000), to_timestamp($4::float8 / 1000),
+               'reverted', 'reads-high', 'absolute transmitter on a gauge tag', 101325, 1, 103325, 204650, 101325, 'mix-up')`,
+      [ac.machineId, ac.tagIds.inletPressure, T0 + 5 * H, T0 + 8 * H],
+    );
     const inProcess = await backfill(db.pool, { from: T0, to: END, workers: 0 });
     expect(inProcess.workers).toBe(0);
     const expected = await results();
     expect(expected.map((r) => r.length)).toEqual([20 * 60, 20 * 60]);
     expect(expected.flat().filter((r) => r.valid && r.efficiency !== null).length).toBeGreaterThan(1000);
+    const flaggedTimes = (expected[1] ?? [])
+      .filter((r) => r.flags.includes('fault:gauge-absolute:inletPressure') && !r.valid)
+      .map((r) => r.time);
+    expect(flaggedTimes).toEqual(Array.from({ length: 3 * 60 }, (_, k) => T0 + 5 * H + k * 60_000));
 
     // Chunks of 5 hours: several tasks per machine, handed to two threads.
     const onWorkers = await backfill(db.pool, { from: T0, to: END, workers: 2, chunkMs: 5 * H });

@@ -4,10 +4,9 @@
  * the samples are moved to the worker (not copied) and the encoded rows come back.
  */
 import { availableParallelism } from 'node:os';
+import type { FindingFlag, MachineRow, RawSeries, ResolvedComputeOptions } from '@isentrope/compute';
 import { Piscina } from 'piscina';
 import { JobsError } from '../errors.js';
-import type { MachineRow } from './config.js';
-import type { RawSeries, ResolvedComputeOptions } from './pipeline.js';
 import type { ComputeTask, ComputeTaskResult } from './worker-task.js';
 
 /** Default thread count: one per core, at most 4 (the database needs cores too). */
@@ -35,13 +34,14 @@ export class ComputeWorkers {
     return this.pool;
   }
 
-  /** One machine's COPY body for [fromMs, toMs); the samples' arrays are moved to the worker. */
+  /** One machine's COPY body for [fromMs, toMs), with its findings' flags; the samples' arrays are moved to the worker. */
   async compute(
     machine: MachineRow,
     samples: ReadonlyMap<number, RawSeries>,
     fromMs: number,
     toMs: number,
     options: ResolvedComputeOptions,
+    findings: readonly FindingFlag[] = [],
   ): Promise<{ body: Buffer; rows: number }> {
     const transferList: ArrayBuffer[] = [];
     const seen = new Set<ArrayBufferLike>();
@@ -59,7 +59,7 @@ export class ComputeWorkers {
           seen.add(column.buffer);
           transferList.push(column.buffer);
         }
-    const task: ComputeTask = { machine, samples, fromMs, toMs, options };
+    const task: ComputeTask = { machine, samples, fromMs, toMs, options, findings };
     const result = await this.started().run(task, { transferList });
     return {
       body: Buffer.from(result.body.buffer, result.body.byteOffset, result.body.byteLength),

@@ -1,56 +1,45 @@
 /**
- * Gauge/absolute pressure mix-ups in the running jobs (the fault pattern is common practice, no
- * source; the detectors are packages/monitor/src/instrument). Runs in the alerts tick after the
- * compute job has written its results and before the analysis and alert passes
+ * Gauge/absolute pressure mix-ups in the running jobs: the reading, storing and scheduling of the
+ * instrument step whose logic is packages/compute (instrument.ts: the detector over the window,
+ * the machine cross-check, the plan against the stored findings). Runs in the alerts tick after
+ * the compute job has written its results and before the analysis and alert passes
  * (compute -> this step -> analysis -> alerts), and before a backfill of the analysis.
  *
- * Per machine and pressure role (inletPressure, outletPressure):
- *  1. detectGaugeAbsoluteStep over the results' p_in / p_out of a trailing window (default 3 days,
- *     far longer than the detector's 2 x 15 points), points where the machine runs only (a row
- *     flagged 'not-running' or without the pressure is NaN), with the site's ambient pressure
- *     (configured, else the median of the barometer tag over the window).
- *  2. A new step is checked through the machine with pressureRatioConsistency for compressors
- *     and turbines: 'consistent' (the temperatures followed the pressure: a real process change)
- *     dismisses it. Pumps (liquid: the temperatures do not follow the pressure) and fans (pressure
- *     ratio near 1: the exponent is ill-conditioned) are not cross-checked, nor a machine whose
- *     data cannot feed the check (too few points, ratio near 1): the tag's step stands alone.
- *  3. Every finding is kept in instrument_findings (migrations/0005), so it outlives the window.
- *     A later step of the opposite direction back to the level before (`revertsAt`) ends it.
- *  4. Every result from a standing finding's step on (to nowMs; over [at, ended_at) for a
- *     reverted one) gets `fault:gauge-absolute:<role>` and valid = false, once: the alert job
- *     raises an instrument alert on the tag, the drift statistics leave the points out. Rows the
- *     compute job rewrites lose the flag; the next run puts it back.
- *  5. Per point: an absolute pressure <= 0 (checkAbsolutePressurePlausible, 'not-positive': a
- *     gauge transmitter on an absolute tag, e.g. at an atmospheric inlet) gets
- *     `fault:pressure-not-positive:<role>` and valid = false, over the window.
- * Which side of a step is wrong is not decided by the data (a repair looks like the opposite
- * mix-up): a lone reads-low step is reported as a gauge transmitter on an absolute tag.
+ * Per machine, in one transaction: the results' p_in / p_out of a trailing window (default 3
+ * days, far longer than the detector's 2 x 15 points) with the site's ambient pressure
+ * (configured, else the median of the barometer tag over the window); per pressure role the stored
+ * findings (instrument_findings, migrations/0005) locked, the plan stored (new findings, reverts).
+ * The rows never get their flags here: when a finding changes, the compute pass recomputes the
+ * machine's stored rows from the change on (recomputeStoredRows), and the compute pass flags every
+ * row a stored finding covers (`fault:gauge-absolute:<role>`, valid = false) whenever it computes
+ * it, so a recompute keeps the flag. The alert job then raises an instrument alert on the tag and
+ * the drift statistics leave the points out. An absolute pressure at or below zero is flagged per
+ * point by the compute pass itself (`fault:pressure-not-positive:<role>`).
  */
 import {
-  checkAbsolutePressurePlausible,
-  detectGaugeAbsoluteStep,
-  type GaugeAbsoluteFinding,
-  MonitorError,
-  type PressureRatioConsistency,
-  pressureRatioConsistency,
-} from '@isentrope/monitor';
+  crossCheckStep,
+  findGaugeAbsoluteSteps,
+  type GaugeStepOptions,
+  gridRangesFrom,
+  type MachineRow,
+  type PressureRole,
+  planFindings,
+  prepareTag,
+  type ResultWindow,
+} from '@isentrope/compute';
+import { inTransaction } from '@isentrope/store';
 import { parseQuantity } from '@isentrope/thermo';
 import type pg from 'pg';
-import { type MachineRow, prepareTag } from '../compute/config.js';
+import { recomputeStoredRows } from '../compute/job.js';
 import { loadMachines, type Queryable } from '../queries/machines.js';
+import { endFinding, insertFinding, lockFindings } from './findings-store.js';
 
-/** Fault names as they appear in result flags (`fault:<name>:<role>`). */
-export const GAUGE_ABSOLUTE_FAULT = 'gauge-absolute';
-export const PRESSURE_NOT_POSITIVE_FAULT = 'pressure-not-positive';
+export { GAUGE_ABSOLUTE_FAULT, PRESSURE_NOT_POSITIVE_FAULT, type PressureRole } from '@isentrope/compute';
 
-export type PressureRole = 'inletPressure' | 'outletPressure';
-const ROLES: readonly (readonly [PressureRole, 'p_in' | 'p_out'])[] = [
-  ['inletPressure', 'p_in'],
-  ['outletPressure', 'p_out'],
-];
+const ROLES: readonly PressureRole[] = ['inletPressure', 'outletPressure'];
 
 export interface GaugeAbsoluteJobOptions {
-  /** Tick time [ms]: results up to and including it are judged and flagged. */
+  /** Tick time [ms]: results up to and including it are judged. */
   readonly nowMs: number;
   readonly machineIds?: readonly number[];
   /** Trailing window of the step detector [ms]; default 3 days; Infinity = all results (a backfill). */
@@ -72,29 +61,27 @@ export interface GaugeAbsoluteRunStats {
   readonly standing: number;
   readonly dismissed: number;
   readonly reverted: number;
-  /** Result rows that got a fault flag this run. */
-  readonly flaggedRows: number;
-  readonly notPositiveRows: number;
+  /** Result rows the compute pass recomputed because a finding changed. */
+  readonly recomputedRows: number;
   readonly skipped: readonly GaugeAbsoluteSkip[];
 }
 
-interface ResultDb {
-  t: number;
-  p_in: number | null;
-  p_out: number | null;
-  t_in: number | null;
-  t_out: number | null;
-  running: boolean;
-}
-
-interface StoredFinding {
-  id: number;
-  at: number;
-  ended_at: number | null;
-  status: 'standing' | 'reverted' | 'dismissed';
-}
-
 const DAY_MS = 86_400_000;
+
+/** Median of a tag's raw samples over [fromMs, toMs] [tag unit]; undefined without samples. */
+async function sampleMedian(
+  db: Queryable,
+  tagId: number,
+  fromMs: number,
+  toMs: number,
+): Promise<number | undefined> {
+  const r = await db.query<{ m: number | null }>(
+    `SELECT percentile_cont(0.5) WITHIN GROUP (ORDER BY value) AS m FROM samples
+      WHERE tag_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time <= to_timestamp($3::float8 / 1000)`,
+    [tagId, Number.isFinite(fromMs) ? fromMs : -8.64e15, toMs],
+  );
+  return r.rows[0]?.m ?? undefined;
+}
 
 /** The site's ambient pressure [Pa]: configured, else the barometer's median over [fromMs, toMs]. */
 async function ambientOf(
@@ -106,70 +93,27 @@ async function ambientOf(
   if (row.siteAmbientPressure !== null) return parseQuantity(row.siteAmbientPressure).valueSI;
   if (row.barometer === undefined) return undefined;
   const baro = prepareTag(row.barometer);
-  const r = await db.query<{ m: number | null }>(
-    `SELECT percentile_cont(0.5) WITHIN GROUP (ORDER BY value) AS m FROM samples
-      WHERE tag_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time <= to_timestamp($3::float8 / 1000)`,
-    [baro.id, Number.isFinite(fromMs) ? fromMs : -8.64e15, toMs],
-  );
-  const m = r.rows[0]?.m ?? null;
+  const m = await sampleMedian(db, baro.id, fromMs, toMs);
   // A barometer reads absolute; a gauge barometer would make no sense and is not corrected.
-  return m === null ? undefined : baro.intercept + baro.slope * m;
+  return m === undefined ? undefined : baro.intercept + baro.slope * m;
 }
 
-function crossCheckOf(
-  kind: MachineRow['kind'],
-  role: PressureRole,
-  f: GaugeAbsoluteFinding,
-  cols: { t: Float64Array; pIn: Float64Array; pOut: Float64Array; TIn: Float64Array; TOut: Float64Array },
-  valid: Uint8Array,
-  ambient: number,
-  windowPoints: number,
-): { verdict: 'mix-up' | 'unexplained' | 'consistent' | 'not-checked'; detail: Record<string, unknown> } {
-  if (kind === 'pump')
-    return {
-      verdict: 'not-checked',
-      detail: { reason: 'pump: a liquid, the temperatures do not follow the pressure' },
-    };
-  if (kind === 'fan')
-    return {
-      verdict: 'not-checked',
-      detail: { reason: 'fan: pressure ratio near 1, the exponent is ill-conditioned' },
-    };
-  let r: PressureRatioConsistency;
-  try {
-    r = pressureRatioConsistency({ ...cols, ambientPressure: ambient, valid }, f.at, { windowPoints });
-  } catch (error) {
-    if (!(error instanceof MonitorError)) throw error;
-    return { verdict: 'not-checked', detail: { reason: error.message, code: error.code } };
-  }
-  const tag = role === 'inletPressure' ? 'inlet' : 'outlet';
-  return {
-    verdict: r.verdict,
-    detail: {
-      exponentBefore: r.exponentBefore,
-      exponentAfter: r.exponentAfter,
-      threshold: r.threshold,
-      ...(r.mixUp === undefined
-        ? {}
-        : {
-            mixUp: {
-              tag: r.mixUp.tag,
-              direction: r.mixUp.direction,
-              exponentCorrected: r.mixUp.exponentCorrected,
-            },
-            // The machine pins the same tag and direction as the tag's own step.
-            agrees: r.mixUp.tag === tag && r.mixUp.direction === f.direction,
-          }),
-    },
-  };
+interface ResultDb {
+  t: number;
+  p_in: number | null;
+  p_out: number | null;
+  t_in: number | null;
+  t_out: number | null;
+  running: boolean;
 }
 
+/** The machine's results over [fromMs, toMs], as columns (NaN where a value is absent). */
 async function readWindow(
   db: Queryable,
   machineId: number,
   fromMs: number,
   toMs: number,
-): Promise<ResultDb[]> {
+): Promise<ResultWindow> {
   const r = await db.query<ResultDb>(
     `SELECT (extract(epoch FROM time) * 1000)::float8 AS t, p_in, p_out, t_in, t_out,
             NOT ('not-running' = ANY(flags)) AS running
@@ -179,35 +123,67 @@ async function readWindow(
       ORDER BY time`,
     [machineId, Number.isFinite(fromMs) ? fromMs : null, toMs],
   );
-  return r.rows;
-}
-
-/** Adds `fault:<name>:<role>` and valid = false to the rows of [fromMs, toMs) (toMs inclusive when `inclusiveEnd`) that lack it. */
-async function flagRange(
-  db: Queryable,
-  machineId: number,
-  flag: string,
-  fromMs: number,
-  toMs: number,
-  inclusiveEnd: boolean,
-): Promise<number> {
-  const r = await db.query(
-    `UPDATE results SET flags = array_append(flags, $2), valid = false
-      WHERE machine_id = $1 AND time >= to_timestamp($3::float8 / 1000)
-        AND (time < to_timestamp($4::float8 / 1000) OR ($5 AND time = to_timestamp($4::float8 / 1000)))
-        AND NOT ($2 = ANY(flags))`,
-    [machineId, flag, fromMs, toMs, inclusiveEnd],
-  );
-  return r.rowCount ?? 0;
+  const n = r.rows.length;
+  const w = {
+    t: new Float64Array(n),
+    pIn: new Float64Array(n),
+    pOut: new Float64Array(n),
+    TIn: new Float64Array(n),
+    TOut: new Float64Array(n),
+    running: new Uint8Array(n),
+  };
+  r.rows.forEach((x, i) => {
+    w.t[i] = x.t;
+    w.pIn[i] = x.p_in ?? Number.NaN;
+    w.pOut[i] = x.p_out ?? Number.NaN;
+    w.TIn[i] = x.t_in ?? Number.NaN;
+    w.TOut[i] = x.t_out ?? Number.NaN;
+    w.running[i] = x.running ? 1 : 0;
+  });
+  return w;
 }
 
 interface MachineOutcome {
   standing: number;
   dismissed: number;
   reverted: number;
-  flaggedRows: number;
-  notPositiveRows: number;
+  /** Earliest time whose rows' flags changed [ms]. */
+  changedFromMs: number | undefined;
+  window: ResultWindow | undefined;
   skip?: string;
+}
+
+/** One pressure role: the steps of the window against the stored findings, the plan stored. */
+async function roleStep(
+  client: pg.PoolClient,
+  row: MachineRow,
+  role: PressureRole,
+  w: ResultWindow,
+  ambient: number,
+  o: GaugeStepOptions,
+  out: MachineOutcome,
+): Promise<void> {
+  const tag = row.tags.find((x) => x.role === role);
+  if (tag === undefined) return;
+  const steps = findGaugeAbsoluteSteps(w, role, ambient, o);
+  const stored = await lockFindings(client, row.id, role);
+  const plan = planFindings(
+    stored,
+    steps,
+    (f) => crossCheckStep(row.kind, role, f, w, ambient, o.windowPoints),
+    o,
+  );
+  for (const r of plan.reverts) await endFinding(client, r.id, r.endedAt);
+  out.reverted += plan.reverts.length;
+  for (const n of plan.inserts) {
+    if (!(await insertFinding(client, { machineId: row.id, tagId: tag.id, role, ambient }, n))) continue;
+    if (n.judged === 'standing') out.standing++;
+    else out.dismissed++;
+    if (n.status === 'reverted') out.reverted++;
+  }
+  const c = plan.changedFromMs;
+  if (c !== undefined)
+    out.changedFromMs = out.changedFromMs === undefined ? c : Math.min(out.changedFromMs, c);
 }
 
 async function machineStep(
@@ -215,152 +191,19 @@ async function machineStep(
   row: MachineRow,
   o: Required<Omit<GaugeAbsoluteJobOptions, 'machineIds'>>,
 ): Promise<MachineOutcome> {
-  const out: MachineOutcome = { standing: 0, dismissed: 0, reverted: 0, flaggedRows: 0, notPositiveRows: 0 };
+  const out: MachineOutcome = {
+    standing: 0,
+    dismissed: 0,
+    reverted: 0,
+    changedFromMs: undefined,
+    window: undefined,
+  };
   const fromMs = o.nowMs - o.windowMs;
   const ambient = await ambientOf(client, row, fromMs, o.nowMs);
   if (ambient === undefined)
     return { ...out, skip: 'no ambient pressure (site value or barometer readings)' };
-  const rows = await readWindow(client, row.id, fromMs, o.nowMs);
-  const n = rows.length;
-  const t = new Float64Array(n);
-  const pIn = new Float64Array(n);
-  const pOut = new Float64Array(n);
-  const TIn = new Float64Array(n);
-  const TOut = new Float64Array(n);
-  const running = new Uint8Array(n);
-  const nan = (v: number | null): number => v ?? Number.NaN;
-  rows.forEach((r, i) => {
-    t[i] = r.t;
-    pIn[i] = nan(r.p_in);
-    pOut[i] = nan(r.p_out);
-    TIn[i] = nan(r.t_in);
-    TOut[i] = nan(r.t_out);
-    running[i] = r.running ? 1 : 0;
-  });
-  const cols = { t, pIn, pOut, TIn, TOut };
-  const tol = o.windowPoints * o.stepMs;
-
-  for (const [role, column] of ROLES) {
-    const tag = row.tags.find((x) => x.role === role);
-    if (tag === undefined) continue;
-    const p = column === 'p_in' ? pIn : pOut;
-    const flag = `fault:${GAUGE_ABSOLUTE_FAULT}:${role}`;
-
-    // Step 5: a reading at or below zero absolute, point by point.
-    const notPositive: number[] = [];
-    for (let i = 0; i < n; i++) {
-      const v = p[i] as number;
-      if (!Number.isFinite(v)) continue;
-      const check = checkAbsolutePressurePlausible(v, { ambientPressure: ambient });
-      if (!check.plausible && check.reason === 'not-positive') notPositive.push(t[i] as number);
-    }
-    if (notPositive.length > 0) {
-      const r = await client.query(
-        `UPDATE results SET flags = array_append(flags, $2), valid = false
-          WHERE machine_id = $1 AND time = ANY(SELECT to_timestamp(x / 1000) FROM unnest($3::float8[]) AS x)
-            AND NOT ($2 = ANY(flags))`,
-        [row.id, `fault:${PRESSURE_NOT_POSITIVE_FAULT}:${role}`, notPositive],
-      );
-      out.notPositiveRows += r.rowCount ?? 0;
-    }
-
-    // Steps 1-3: the detector over the window, then the stored findings.
-    const value = new Float64Array(n);
-    for (let i = 0; i < n; i++) value[i] = running[i] === 1 ? (p[i] as number) : Number.NaN;
-    const findings: GaugeAbsoluteFinding[] = [];
-    for (const [a, b, spacing] of uniformStretches(t)) {
-      // The detector's windows are counted in points: keep them near windowPoints minutes long
-      // on a coarser grid (a history computed every 15 minutes), where slow process swings
-      // would otherwise bend a window of 15 points (common practice, no source).
-      const windowPoints = Math.max(
-        4,
-        Math.min(o.windowPoints, Math.round((o.windowPoints * o.stepMs) / spacing)),
-      );
-      if (b - a < 2 * windowPoints) continue;
-      try {
-        const found = detectGaugeAbsoluteStep(
-          { t: t.subarray(a, b), value: value.subarray(a, b), ambientPressure: ambient },
-          { windowPoints },
-        );
-        for (const f of found) findings.push({ ...f, index: f.index + a });
-      } catch (error) {
-        // Too few running points in the stretch: nothing new to find there this run.
-        if (!(error instanceof MonitorError && error.code === 'MONITOR_TOO_FEW_POINTS')) throw error;
-      }
-    }
-    const storedRes = await client.query<StoredFinding>(
-      `SELECT id::int, (extract(epoch FROM at) * 1000)::float8 AS at,
-              (extract(epoch FROM ended_at) * 1000)::float8 AS ended_at, status
-         FROM instrument_findings WHERE machine_id = $1 AND role = $2 AND kind = $3 ORDER BY at FOR UPDATE`,
-      [row.id, role, GAUGE_ABSOLUTE_FAULT],
-    );
-    const stored = storedRes.rows;
-    const near = (a: number | null, b: number): boolean => a !== null && Math.abs(a - b) <= tol;
-    for (const f of findings) {
-      // Seen on an earlier run (as a step, or as the revert that ended one).
-      if (stored.some((s) => near(s.at, f.at) || near(s.ended_at, f.at))) continue;
-      if (f.revertsAt !== undefined) {
-        const prior = stored.find((s) => near(s.at, f.revertsAt as number));
-        // The return of a dismissed (real) change is real too: nothing to do.
-        if (prior !== undefined && prior.status === 'dismissed') continue;
-        if (prior !== undefined && prior.status === 'standing') {
-          await client.query(
-            `UPDATE instrument_findings SET status = 'reverted', ended_at = to_timestamp($2::float8 / 1000) WHERE id = $1`,
-            [prior.id, f.at],
-          );
-          prior.status = 'reverted';
-          prior.ended_at = f.at;
-          out.reverted++;
-          // The rows from the revert on were judged fine by the data: take the flag off them.
-          await client.query(
-            `UPDATE results SET flags = array_remove(flags, $2)
-              WHERE machine_id = $1 AND time >= to_timestamp($3::float8 / 1000) AND $2 = ANY(flags)`,
-            [row.id, flag, f.at],
-          );
-          continue;
-        }
-      }
-      const check = crossCheckOf(row.kind, role, f, cols, running, ambient, o.windowPoints);
-      const status = check.verdict === 'consistent' ? 'dismissed' : 'standing';
-      const ins = await client.query<{ id: number }>(
-        `INSERT INTO instrument_findings (machine_id, tag_id, role, kind, at, status, direction, likely_cause,
-                                          shift_pa, shift_ambients, level_before_pa, level_after_pa, ambient_pa,
-                                          cross_check, cross_check_detail)
-         VALUES ($1, $2, $3, $4, to_timestamp($5::float8 / 1000), $6, $7, $8, $9, $10, $11, $12, $13, $14, $15)
-         ON CONFLICT (machine_id, role, kind, at) DO NOTHING RETURNING id::int`,
-        [
-          row.id,
-          tag.id,
-          role,
-          GAUGE_ABSOLUTE_FAULT,
-          f.at,
-          status,
-          f.direction,
-          f.likelyCause,
-          f.shift,
-          f.shiftInAmbients,
-          f.levelBefore,
-          f.levelAfter,
-          ambient,
-          check.verdict,
-          JSON.stringify(check.detail),
-        ],
-      );
-      const id = ins.rows[0]?.id;
-      if (id === undefined) continue;
-      stored.push({ id, at: f.at, ended_at: null, status });
-      if (status === 'standing') out.standing++;
-      else out.dismissed++;
-    }
-
-    // Step 4: flags from each standing step on, and over each reverted interval.
-    for (const s of stored) {
-      if (s.status === 'standing')
-        out.flaggedRows += await flagRange(client, row.id, flag, s.at, o.nowMs, true);
-      else if (s.status === 'reverted' && s.ended_at !== null)
-        out.flaggedRows += await flagRange(client, row.id, flag, s.at, s.ended_at, false);
-    }
-  }
+  out.window = await readWindow(client, row.id, fromMs, o.nowMs);
+  for (const role of ROLES) await roleStep(client, row, role, out.window, ambient, o, out);
   return out;
 }
 
@@ -380,47 +223,22 @@ export async function runGaugeAbsoluteOnce(
   };
   const machines = await loadMachines(pool, options.machineIds);
   const skipped: GaugeAbsoluteSkip[] = [];
-  let standing = 0;
-  let dismissed = 0;
-  let reverted = 0;
-  let flaggedRows = 0;
-  let notPositiveRows = 0;
+  const stats = { standing: 0, dismissed: 0, reverted: 0, recomputedRows: 0 };
   for (const row of machines) {
     if (row.outOfService) continue;
-    const client = await pool.connect();
-    try {
-      await client.query('BEGIN');
-      const r = await machineStep(client, row, o);
-      await client.query('COMMIT');
-      if (r.skip !== undefined) skipped.push({ machineId: row.id, reason: r.skip });
-      standing += r.standing;
-      dismissed += r.dismissed;
-      reverted += r.reverted;
-      flaggedRows += r.flaggedRows;
-      notPositiveRows += r.notPositiveRows;
-    } catch (error) {
-      await client.query('ROLLBACK').catch(() => {});
-      throw error;
-    } finally {
-      client.release();
-    }
+    // The rows are recomputed after the step's transaction has committed its findings.
+    const r = await inTransaction(pool, (client) => machineStep(client, row, o));
+    if (r.skip !== undefined) skipped.push({ machineId: row.id, reason: r.skip });
+    stats.standing += r.standing;
+    stats.dismissed += r.dismissed;
+    stats.reverted += r.reverted;
+    // The compute pass rewrites the rows whose flags the change touches, reading the findings anew.
+    if (r.changedFromMs !== undefined && r.window !== undefined)
+      stats.recomputedRows += await recomputeStoredRows(
+        pool,
+        row,
+        gridRangesFrom(r.window.t, r.changedFromMs),
+      );
   }
-  return { machines: machines.length, standing, dismissed, reverted, flaggedRows, notPositiveRows, skipped };
-}
-
-/**
- * [start, end, spacing] of the runs of equally spaced times (results on one grid) in t; two
- * neighbouring runs share their boundary point.
- */
-export function uniformStretches(t: ArrayLike<number>): [number, number, number][] {
-  const out: [number, number, number][] = [];
-  let a = 0;
-  while (a < t.length - 1) {
-    const spacing = (t[a + 1] as number) - (t[a] as number);
-    let b = a + 2;
-    while (b < t.length && (t[b] as number) - (t[b - 1] as number) === spacing) b++;
-    out.push([a, b, spacing]);
-    a = b - 1;
-  }
-  return out;
+  return { machines: machines.length, ...stats, skipped };
 }

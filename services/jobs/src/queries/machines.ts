@@ -2,8 +2,9 @@
  * Reads the plant configuration the jobs need. Written here because packages/store has no
  * reader for it yet; move to the store when it has one.
  */
+
+import type { MachineRow, TagRow } from '@isentrope/compute';
 import type pg from 'pg';
-import type { MachineRow, TagRow } from '../compute/config.js';
 
 export type Queryable = Pick<pg.Pool, 'query'> | Pick<pg.PoolClient, 'query'>;
 

@@ -2,8 +2,9 @@
  * The binary COPY body of result rows (pure: no I/O), shared by the results writer and the
  * compute workers, which encode their rows where they computed them.
  */
+
+import type { ResultRow } from '@isentrope/compute';
 import { COPY_SIGNATURE, writeCopyTime } from '@isentrope/store/copy-binary';
-import type { ResultRow } from '../compute/pipeline.js';
 import { JobsError } from '../errors.js';
 
 /** Numeric result columns and their ResultRow keys, in table order. */

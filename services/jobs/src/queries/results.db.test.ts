@@ -1,6 +1,6 @@
+import type { ResultRow } from '@isentrope/compute';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
-import type { ResultRow } from '../compute/pipeline.js';
 import { ensureResultPartitions, readResults, replaceResultsRange, writeResults } from './results.js';
 
 const T0 = Date.UTC(2026, 2, 31, 23, 58); // two rows in March, two in April: two partitions

@@ -3,10 +3,11 @@
  * through unnest arrays (one statement per batch; works the same on every PostgreSQL).
  * Written here until packages/store exports its own writer.
  */
+
+import type { ResultRow } from '@isentrope/compute';
 import { ensurePartitions } from '@isentrope/store';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
-import type { ResultRow } from '../compute/pipeline.js';
 import type { Queryable } from './machines.js';
 import { encodeResultRows, NUM_COLUMNS, RESULT_COPY_COLUMNS } from './results-copy.js';
 

@@ -1,7 +1,7 @@
+import type { RawSeries } from '@isentrope/compute';
 import { COPY_HEADER_BYTES, readCopyTime } from '@isentrope/store/copy-binary';
 import type pg from 'pg';
 import { to as copyTo } from 'pg-copy-streams';
-import type { RawSeries } from '../compute/pipeline.js';
 import { JobsError } from '../errors.js';
 import type { Queryable } from './machines.js';
 

@@ -20,6 +20,18 @@ export interface SyntheticMachine {
   readonly ratePtsPerDay: number;
 }
 
+/** An invented air compressor drawing from the atmosphere (2 kPa above it) into 8 bar(a). */
+export const SYNTHETIC_AIR_COMPRESSOR: SyntheticMachine = {
+  slug: 'ac-1',
+  kind: 'compressor',
+  pIn: 101_325 + 2000,
+  tIn: 293.15,
+  pOut: 8e5,
+  massFlow: 3,
+  eta0: 0.8,
+  ratePtsPerDay: -0.05,
+};
+
 /** Standard uncertainties of the invented instruments, in the tag units below. */
 export const SYNTHETIC_UNCERTAINTY = {
   inletPressure: 0.01, // barg

@@ -7,7 +7,7 @@
 import { createHash } from 'node:crypto';
 import * as thermo from '@isentrope/thermo';
 import { type Fluid, parseQuantity, toSI, unitDimension } from '@isentrope/thermo';
-import { JobsError } from '../errors.js';
+import { ComputeError } from './errors.js';
 
 /** Tag roles that feed the machine model. */
 export const MODEL_ROLES = [
@@ -111,8 +111,8 @@ function isRecord(v: unknown): v is Readonly<Record<string, unknown>> {
 /** The default resolver: water (IAPWS-IF97), dry air, gas mixtures, incompressible liquids. */
 export const defaultFluidResolver: FluidResolver = (spec) => {
   const unavailable = (name: string): never => {
-    throw new JobsError(
-      'JOBS_FLUID_UNAVAILABLE',
+    throw new ComputeError(
+      'COMPUTE_FLUID_UNAVAILABLE',
       `fluid model ${name} is not exported by @isentrope/thermo`,
       {
         fluid: spec,
@@ -142,7 +142,7 @@ export const defaultFluidResolver: FluidResolver = (spec) => {
       );
     }
   }
-  throw new JobsError('JOBS_BAD_CONFIG', `unknown fluid spec ${JSON.stringify(spec)}`, { fluid: spec });
+  throw new ComputeError('COMPUTE_BAD_CONFIG', `unknown fluid spec ${JSON.stringify(spec)}`, { fluid: spec });
 };
 
 function linearMap(tag: TagRow): { slope: number; intercept: number; gauge: boolean } {
@@ -150,8 +150,8 @@ function linearMap(tag: TagRow): { slope: number; intercept: number; gauge: bool
   try {
     gauge = thermo.isGaugeUnit(tag.unit);
   } catch (cause) {
-    throw new JobsError(
-      'JOBS_BAD_CONFIG',
+    throw new ComputeError(
+      'COMPUTE_BAD_CONFIG',
       `tag ${tag.name}: unit "${tag.unit}" is not known`,
       { tag: tag.name, unit: tag.unit },
       { cause },
@@ -180,9 +180,13 @@ function uncertaintyFn(tag: TagRow, slope: number): (raw: number) => number {
     const v = (u.percentOfSpan / 100) * u.span * s;
     return () => v;
   }
-  throw new JobsError('JOBS_BAD_CONFIG', `tag ${tag.name}: uncertainty ${JSON.stringify(u)} not understood`, {
-    tag: tag.name,
-  });
+  throw new ComputeError(
+    'COMPUTE_BAD_CONFIG',
+    `tag ${tag.name}: uncertainty ${JSON.stringify(u)} not understood`,
+    {
+      tag: tag.name,
+    },
+  );
 }
 
 export function prepareTag(tag: TagRow): PreparedTag {
@@ -235,7 +239,7 @@ export function prepareMachine(
   for (const t of row.tags) {
     if (!(MODEL_ROLES as readonly string[]).includes(t.role)) continue;
     if (tags.has(t.role))
-      throw new JobsError('JOBS_BAD_CONFIG', `machine ${row.slug}: two tags with role ${t.role}`, {
+      throw new ComputeError('COMPUTE_BAD_CONFIG', `machine ${row.slug}: two tags with role ${t.role}`, {
         machine: row.slug,
         role: t.role,
       });
@@ -243,7 +247,7 @@ export function prepareMachine(
   }
   for (const need of ['inletPressure', 'inletTemperature', 'outletPressure', 'outletTemperature'] as const)
     if (!tags.has(need))
-      throw new JobsError('JOBS_BAD_CONFIG', `machine ${row.slug} has no tag with role ${need}`, {
+      throw new ComputeError('COMPUTE_BAD_CONFIG', `machine ${row.slug} has no tag with role ${need}`, {
         machine: row.slug,
         role: need,
       });
@@ -252,8 +256,8 @@ export function prepareMachine(
   const barometer = row.barometer !== undefined ? prepareTag(row.barometer) : undefined;
   const needsAmbient = [...tags.values()].some((t) => t.gauge);
   if (needsAmbient && ambientPressure === undefined && barometer === undefined)
-    throw new JobsError(
-      'JOBS_BAD_CONFIG',
+    throw new ComputeError(
+      'COMPUTE_BAD_CONFIG',
       `machine ${row.slug} has gauge pressure tags but the site has no ambient pressure or barometer`,
       {
         machine: row.slug,

@@ -5,8 +5,9 @@
  */
 import { type Fluid, gaussian, mulberry32 } from '@isentrope/thermo';
 import { describe, expect, it } from 'vitest';
-import { defaultFluidResolver, type MachineRow, prepareMachine, type TagRow } from './config.js';
-import { computeRange, type RawSeries, type ResultRow, resolveComputeOptions } from './pipeline.js';
+import { defaultFluidResolver, type MachineRow, prepareMachine, type TagRow } from './machine.js';
+import { type RawSeries, type ResultRow, resolveComputeOptions } from './options.js';
+import { computeRange } from './pipeline.js';
 
 const T0 = Date.UTC(2026, 2, 2);
 const MIN = 60_000;

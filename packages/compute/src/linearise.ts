@@ -77,8 +77,22 @@ function present(v: number): number | undefined {
   return Number.isNaN(v) ? undefined : v;
 }
 
-/** The outputs of a result in OUT_* order (NaN when absent). */
-export function outputsOf(r: MachineResult, out: Float64Array): Float64Array {
+/** The figures a result (or their uncertainties) holds per OUT_* slot. */
+export type OutputFigures = Partial<
+  Pick<
+    MachineResult,
+    | 'isentropicEfficiency'
+    | 'polytropicEfficiency'
+    | 'specificWork'
+    | 'power'
+    | 'entropyGeneration'
+    | 'hydraulicEfficiency'
+    | 'fanEfficiency'
+  >
+>;
+
+/** The outputs of a result, or their uncertainties, in OUT_* order (NaN when absent). */
+export function outputsOf(r: OutputFigures, out: Float64Array): Float64Array {
   out[OUT_ETA] = r.isentropicEfficiency ?? Number.NaN;
   out[OUT_ETA_POLY] = r.polytropicEfficiency ?? Number.NaN;
   out[OUT_WORK] = r.specificWork ?? Number.NaN;
