@@ -17,6 +17,7 @@ import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
+import { mergeIntoBlocks, routePackedRows } from './blocks/route.js';
 import { type CompressionMethod, type Compressor, createCompressor } from './compression.js';
 import { encodeSamples, type SampleRow } from './copy-binary.js';
 import { StoreError } from './errors.js';
@@ -328,13 +329,17 @@ async function writePrepared(
         }
       }
       if (!fast) {
+        // Rows for packed ranges are merged into their blocks (blocks/route.ts), the rest staged.
+        const routed = await routePackedRows(client, batch.sorted);
+        if (routed.packed.length > 0)
+          stored += (await mergeIntoBlocks(client, routed.packed, { rollups })).stored;
         await copyBuffer(
           client,
           'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
-          batch.data,
+          routed.packed.length > 0 ? encodeSamples(routed.hot) : batch.data,
         );
         const ins = await client.query<{ n: number }>(insertStagedSql(rollups));
-        stored = ins.rows[0]?.n ?? 0;
+        stored += ins.rows[0]?.n ?? 0;
         lap('copy');
       }
       // Nothing new means every key was stored already, and tag_last is at least as late.

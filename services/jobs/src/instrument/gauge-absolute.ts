@@ -34,6 +34,7 @@ import {
   type PressureRatioConsistency,
   pressureRatioConsistency,
 } from '@isentrope/monitor';
+import { percentileCont, readSeries } from '@isentrope/store';
 import { parseQuantity } from '@isentrope/thermo';
 import type pg from 'pg';
 import { type MachineRow, prepareTag } from '../compute/config.js';
@@ -98,7 +99,7 @@ const DAY_MS = 86_400_000;
 
 /** The site's ambient pressure [Pa]: configured, else the barometer's median over [fromMs, toMs]. */
 async function ambientOf(
-  db: Queryable,
+  db: pg.PoolClient,
   row: MachineRow,
   fromMs: number,
   toMs: number,
@@ -106,14 +107,11 @@ async function ambientOf(
   if (row.siteAmbientPressure !== null) return parseQuantity(row.siteAmbientPressure).valueSI;
   if (row.barometer === undefined) return undefined;
   const baro = prepareTag(row.barometer);
-  const r = await db.query<{ m: number | null }>(
-    `SELECT percentile_cont(0.5) WITHIN GROUP (ORDER BY value) AS m FROM samples
-      WHERE tag_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time <= to_timestamp($3::float8 / 1000)`,
-    [baro.id, Number.isFinite(fromMs) ? fromMs : -8.64e15, toMs],
-  );
-  const m = r.rows[0]?.m ?? null;
+  // Hot rows and packed blocks alike; [fromMs, toMs] inclusive, times are whole microseconds.
+  const series = await readSeries(db, [baro.id], Number.isFinite(fromMs) ? fromMs : -Infinity, toMs + 0.001);
+  const m = percentileCont(series.get(baro.id)?.values ?? [], 0.5);
   // A barometer reads absolute; a gauge barometer would make no sense and is not corrected.
-  return m === null ? undefined : baro.intercept + baro.slope * m;
+  return m === undefined ? undefined : baro.intercept + baro.slope * m;
 }
 
 function crossCheckOf(
