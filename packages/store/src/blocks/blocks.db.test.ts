@@ -198,4 +198,40 @@ describe('sample blocks', () => {
       code: 'STORE_BAD_RETENTION',
     });
   });
+
+  it('stores every key exactly once while a pack runs beside a writer re-sending and adding late samples', async () => {
+    const n0 = Date.UTC(2025, 10, 10);
+    await ensurePartitions(db.pool, 'samples', n0, n0 + 3 * DAY);
+    const original: SampleInput[] = [];
+    const late: SampleInput[] = [];
+    for (const tagId of [21, 22])
+      for (let t = n0; t < n0 + 3 * DAY; t += 10_000) {
+        original.push({ tagId, time: t, value: t / 1e9, quality: 192 });
+        if (t % 70_000 === 0) late.push({ tagId, time: t + 5000, value: -1, quality: 192 });
+      }
+    await writeSampleBatch(db.pool, original);
+    const chunks: SampleInput[][] = [];
+    for (let i = 0; i < original.length; i += 5000) chunks.push(original.slice(i, i + 5000));
+    for (let i = 0; i < late.length; i += 500) chunks.push(late.slice(i, i + 500));
+    const writing = (async () => {
+      let stored = 0;
+      for (const c of chunks) stored += (await writeSampleBatch(db.pool, c)).stored;
+      return stored;
+    })();
+    const [stored] = await Promise.all([writing, packSamples(db.pool, { nowMs: Date.UTC(2025, 11, 10) })]);
+    await packSamples(db.pool, { nowMs: Date.UTC(2025, 11, 10) });
+    expect(late.length).toBeGreaterThan(100);
+    expect(stored).toBe(late.length);
+    const got = await readSeries(db.pool, [21, 22], n0 - DAY, n0 + 4 * DAY);
+    let total = 0;
+    for (const s of got.values()) {
+      total += s.times.length;
+      for (let i = 1; i < s.times.length; i++) expect(s.times[i]).toBeGreaterThan(s.times[i - 1]!);
+    }
+    expect(total).toBe(original.length + late.length);
+    const hot = await db.pool.query<{ n: number }>(
+      'SELECT count(*)::int AS n FROM samples WHERE tag_id IN (21, 22)',
+    );
+    expect(hot.rows[0]?.n).toBe(0);
+  });
 });
