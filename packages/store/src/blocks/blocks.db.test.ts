@@ -8,10 +8,12 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
 import { ensurePartitions } from '../partitions.js';
 import { applyRawRetention } from '../retention.js';
-import { type SampleInput, SampleWriter, writeSampleBatch } from '../samples-writer.js';
+import { aggregateSortedBatch } from '../rollups.js';
+import { type SampleInput, type SampleRow, SampleWriter, writeSampleBatch } from '../samples-writer.js';
 import type { SeriesColumns } from './columns.js';
 import { packSamples } from './pack.js';
 import { readSeries } from './read.js';
+import { seriesRows } from './rollup-source.js';
 
 const DAY = 86_400_000;
 // Spans February (a whole partition to truncate) into March (a partial one to DELETE from).
@@ -132,6 +134,23 @@ describe('sample blocks', () => {
     }
   });
 
+  it('recomputes the rollups the writer kept from packed and hot samples alike (for rebuildRollups)', async () => {
+    const rows = await seriesRows(db.pool, [13], Number.NEGATIVE_INFINITY, Number.POSITIVE_INFINITY);
+    const minutes = aggregateSortedBatch(rows).filter((r) => !r.hourly);
+    const stored = await db.pool.query<{
+      b: Date;
+      min: number;
+      max: number;
+      count: number;
+      last_value: number;
+    }>('SELECT bucket AS b, min, max, count, last_value FROM samples_1m WHERE tag_id = 13 ORDER BY bucket');
+    expect(minutes.length).toBeGreaterThan(1000);
+    // min, max, count and last exact (the same samples; common practice, no source).
+    expect(minutes.map((m) => [m.bucket, m.min, m.max, m.count, m.lastValue])).toEqual(
+      stored.rows.map((r) => [r.b.getTime(), r.min, r.max, r.count, r.last_value]),
+    );
+  });
+
   it('merges late samples into their block exactly once, keeping the first value of a key', async () => {
     const all = (await readSeries(db.pool, [12], Number.NEGATIVE_INFINITY, Number.POSITIVE_INFINITY)).get(
       12,
@@ -202,15 +221,15 @@ describe('sample blocks', () => {
   it('stores every key exactly once while a pack runs beside a writer re-sending and adding late samples', async () => {
     const n0 = Date.UTC(2025, 10, 10);
     await ensurePartitions(db.pool, 'samples', n0, n0 + 3 * DAY);
-    const original: SampleInput[] = [];
-    const late: SampleInput[] = [];
+    const original: SampleRow[] = [];
+    const late: SampleRow[] = [];
     for (const tagId of [21, 22])
       for (let t = n0; t < n0 + 3 * DAY; t += 10_000) {
         original.push({ tagId, time: t, value: t / 1e9, quality: 192 });
         if (t % 70_000 === 0) late.push({ tagId, time: t + 5000, value: -1, quality: 192 });
       }
     await writeSampleBatch(db.pool, original);
-    const chunks: SampleInput[][] = [];
+    const chunks: SampleRow[][] = [];
     for (let i = 0; i < original.length; i += 5000) chunks.push(original.slice(i, i + 5000));
     for (let i = 0; i < late.length; i += 500) chunks.push(late.slice(i, i + 500));
     const writing = (async () => {

@@ -12,4 +12,5 @@ export {
   packSamples,
 } from './pack.js';
 export { readSeries, type SeriesSource } from './read.js';
+export { rollupStageFromSeries, seriesRows } from './rollup-source.js';
 export { type MergeOutcome, mergeIntoBlocks, routePackedRows } from './route.js';
