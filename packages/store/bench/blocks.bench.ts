@@ -10,6 +10,7 @@
  */
 
 import { randomBytes } from 'node:crypto';
+import { readFileSync } from 'node:fs';
 import { mkdtemp, rm } from 'node:fs/promises';
 import { loadavg, tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -65,8 +66,35 @@ async function bytesOf(pool: pg.Pool, relation: string): Promise<number> {
   return Number(r.rows[0]!.b);
 }
 
-function emitPack(label: string, r: PackReport): void {
+/** CPU seconds (user + system) of a process from /proc (Linux proc(5): fields 14 and 15, clock ticks of 1/100 s). */
+function procCpuSeconds(pid: number): number {
+  const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+  const fields = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  return (Number(fields[11]) + Number(fields[12])) / 100;
+}
+
+/**
+ * Runs `work` on a one-connection pool and returns the CPU seconds it took in this process and
+ * in that connection's server backend (local server only): a rate per CPU second does not
+ * depend on how many other processes share the host, as wall time does.
+ */
+async function cpuOf<T>(work: (pool: pg.Pool) => Promise<T>): Promise<{ out: T; cpu: number }> {
+  const one = new pg.Pool({ connectionString: url.toString(), max: 1 });
+  try {
+    const pid = (await one.query<{ p: number }>('SELECT pg_backend_pid() AS p')).rows[0]!.p;
+    const server0 = procCpuSeconds(pid);
+    const client0 = process.cpuUsage();
+    const out = await work(one);
+    const c = process.cpuUsage(client0);
+    return { out, cpu: procCpuSeconds(pid) - server0 + (c.user + c.system) / 1e6 };
+  } finally {
+    await one.end();
+  }
+}
+
+function emitPack(label: string, r: PackReport, cpu: number): void {
   emit(`store.blocks.${label}.pack.rate`, r.rowsRead / (r.ms / 1000), 'samples/s');
+  emit(`store.blocks.${label}.pack.rate_per_cpu_second`, r.rowsRead / cpu, 'samples/cpu-s');
   emit(`store.blocks.${label}.pack.samples`, r.rowsRead, 'samples');
   emit(`store.blocks.${label}.pack.blocks_written`, r.blocksWritten, 'blocks');
   emit(`store.blocks.${label}.pack.rows_removed`, r.rowsRemoved, 'rows');
@@ -147,8 +175,8 @@ async function main(): Promise<void> {
     const hotBytes = await bytesOf(pool, 'samples_p2024_03');
     const n1s = 4 * 7 * 86_400;
     emit('store.blocks.noise_1s.hot.bytes_per_sample', hotBytes / n1s, 'bytes/sample');
-    const p1 = await packSamples(pool, { nowMs: b0 + 40 * DAY });
-    emitPack('noise_1s', p1);
+    const { out: p1, cpu: c1 } = await cpuOf((one) => packSamples(one, { nowMs: b0 + 40 * DAY }));
+    emitPack('noise_1s', p1, c1);
     await pool.query('VACUUM ANALYZE sample_blocks');
     emit(
       'store.blocks.noise_1s.bytes_per_sample',
@@ -156,12 +184,22 @@ async function main(): Promise<void> {
       'bytes/sample',
     );
     const payloads = await pool.query<{ p: Buffer }>('SELECT payload AS p FROM sample_blocks');
-    let t = performance.now();
+    const t = performance.now();
+    const cpu0 = process.cpuUsage();
     let decoded = 0;
-    for (const r of payloads.rows) decoded += decodeBlock(r.p).times.length;
+    for (let round = 0; round < 5; round++)
+      for (const r of payloads.rows) decoded += decodeBlock(r.p).times.length;
+    const cpu = process.cpuUsage(cpu0);
     emit('store.blocks.noise_1s.decode_block.rate', decoded / ((performance.now() - t) / 1000), 'samples/s');
+    emit(
+      'store.blocks.noise_1s.decode_block.rate_per_cpu_second',
+      decoded / ((cpu.user + cpu.system) / 1e6),
+      'samples/cpu-s',
+    );
     const rs = await median(5, () => readSeries(pool, [1, 2, 3, 4], b0, b0 + 7 * DAY));
     emit('store.blocks.noise_1s.read_series.rate', n1s / (rs / 1000), 'samples/s');
+    const rc = await cpuOf((one) => readSeries(one, [1, 2, 3, 4], b0, b0 + 7 * DAY));
+    emit('store.blocks.noise_1s.read_series.rate_per_cpu_second', n1s / rc.cpu, 'samples/cpu-s');
     await pool.query('TRUNCATE sample_blocks, samples, samples_1m, samples_1h, tag_last');
 
     // (a) The demo plant's year of history as its first start writes it (pack off), then packed.
@@ -183,8 +221,10 @@ async function main(): Promise<void> {
       Number(parts.rows[0]!.b) / demo.samplesWritten,
       'bytes/sample',
     );
-    const p2 = await packSamples(pool, { nowMs: Date.UTC(2025, 11, 31, 12) });
-    emitPack('demo_year', p2);
+    const { out: p2, cpu: c2 } = await cpuOf((one) =>
+      packSamples(one, { nowMs: Date.UTC(2025, 11, 31, 12) }),
+    );
+    emitPack('demo_year', p2, c2);
     await pool.query('VACUUM ANALYZE sample_blocks');
     emit(
       'store.blocks.demo_year.bytes_per_sample',
@@ -212,7 +252,6 @@ async function main(): Promise<void> {
     await trends(pool, 'hot', y0, y1);
     await packSamples(pool, { nowMs: y1 + 3 * DAY });
     await trends(pool, 'packed', y0, y1);
-    t = performance.now();
     emit('store.host.loadavg_1min_at_end', loadavg()[0] ?? 0, 'load');
   } finally {
     await rm(dataDir, { recursive: true, force: true });

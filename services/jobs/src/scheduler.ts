@@ -63,7 +63,9 @@ export function tickTime(job: JobName, nowMs: number): number {
 }
 
 /** A stable 32-bit key per job for pg_try_advisory_lock(int, int). */
-const LOCK_CLASS = 0x15e7; // "isentrope jobs"
+// Not 0x15e7: that class is the sample writer's per-tag locks (TAG_LOCK_CLASS, keyed by tag id),
+// and a tick holding (0x15e7, 1) for its whole run blocked every writer of tag 1.
+const LOCK_CLASS = 0x15e9; // "isentrope jobs"
 const LOCK_KEYS: Readonly<Record<JobName, number>> = {
   compute: 1,
   alerts: 2,
