@@ -12,8 +12,10 @@ import type pg from 'pg';
 export const BLOCKS_LOCK_CLASS = 0x15e8;
 export const READ_GUARD_KEY = 0;
 
+export const READ_GUARD_SQL = `SELECT pg_advisory_xact_lock_shared(${BLOCKS_LOCK_CLASS}, ${READ_GUARD_KEY})`;
+
 export async function takeReadGuard(client: pg.ClientBase): Promise<void> {
-  await client.query('SELECT pg_advisory_xact_lock_shared($1, $2)', [BLOCKS_LOCK_CLASS, READ_GUARD_KEY]);
+  await client.query(READ_GUARD_SQL);
 }
 
 export async function takeTruncateGuard(client: pg.ClientBase): Promise<void> {

@@ -15,7 +15,7 @@ import {
   toSeries,
   type UsColumns,
 } from './columns.js';
-import { takeReadGuard } from './locks.js';
+import { READ_GUARD_SQL, takeReadGuard } from './locks.js';
 import {
   checkSeriesArgs,
   decodeSeriesCopy,
@@ -43,8 +43,8 @@ export async function readSeriesCopy(
   try {
     // No JIT: a read over many monthly partitions passes jit_above_cost, and compiling costs
     // more than the read (services/api/src/queries/nojit.ts measured 13.7 s on a year).
-    await client.query('BEGIN READ ONLY; SET LOCAL jit = off');
-    await takeReadGuard(client);
+    // One round trip for the three (constants only, so the simple protocol takes them together).
+    await client.query(`BEGIN READ ONLY; SET LOCAL jit = off; ${READ_GUARD_SQL}`);
     const data = await runCopyOut(client, sql);
     await client.query('COMMIT');
     return decodeSeriesCopy(data);
