@@ -20,6 +20,7 @@ import { Readable } from 'node:stream';
 import { pipeline } from 'node:stream/promises';
 import type pg from 'pg';
 import { from as copyFrom } from 'pg-copy-streams';
+import { mergeIntoBlocks, routePackedRows } from './blocks/route.js';
 import { type CompressionMethod, type Compressor, createCompressor } from './compression.js';
 import { encodeSamples, type SampleRow } from './copy-binary.js';
 import { StoreError } from './errors.js';
@@ -250,9 +251,8 @@ const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_
  * fast COPY met stored): COPY to samples_stage, then one statement inserts the new rows,
  * merges them into the rollups and returns the keys stored with another value. Runs inside
  * the batch's transaction, under its per-tag locks.
- * Blocks (h4-blocks): routePackedRows(client, rows) goes first here; its packed rows go to
- * mergeIntoBlocks (their outcome added to this one's) and only its hot rows are encoded
- * and staged below.
+ * Rows that fall inside a packed block go to mergeIntoBlocks first (their outcome is added to
+ * this one's); only the hot rows are staged.
  */
 async function writeStaged(
   client: pg.PoolClient,
@@ -260,15 +260,20 @@ async function writeStaged(
   data: Buffer,
   rollups: boolean,
 ): Promise<Omit<BatchOutcome, 'fast'>> {
+  // Rows for ranges already packed are merged into their blocks (blocks/route.ts), the rest staged.
+  const routed = await routePackedRows(client, rows);
+  const merged = await mergeIntoBlocks(client, routed.packed, { rollups });
+  const hot = routed.packed.length === 0 ? rows : routed.hot;
+  if (hot.length === 0) return merged;
   await copyBuffer(
     client,
     'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
-    data,
+    routed.packed.length === 0 ? data : encodeSamples(routed.hot),
   );
   const r = (await client.query<StagedResult>(insertStagedSql(rollups))).rows[0]!;
-  const conflicts: WriteConflict[] = [];
+  const conflicts: WriteConflict[] = [...merged.conflicts];
   for (let i = 0; i < r.tag_ids.length; i++) {
-    const row = findRow(rows, r.tag_ids[i]!, r.times[i]!);
+    const row = findRow(hot, r.tag_ids[i]!, r.times[i]!);
     if (row === undefined) {
       // Cannot happen while times are whole milliseconds both ways; say so if it does.
       const key = { tagId: r.tag_ids[i], time: r.times[i] };
@@ -281,7 +286,12 @@ async function writeStaged(
     conflicts.push(conflictOf(row, r.stored_values[i]!, r.stored_qualities[i]!));
   }
   // Rows neither inserted nor conflicting were stored with the same value: duplicates.
-  return { stored: r.n, duplicates: rows.length - r.n - conflicts.length, conflicts };
+  const hotConflicts = conflicts.length - merged.conflicts.length;
+  return {
+    stored: r.n + merged.stored,
+    duplicates: hot.length - r.n - hotConflicts + merged.duplicates,
+    conflicts,
+  };
 }
 
 const COPY_SAMPLES = 'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)';

@@ -11,6 +11,9 @@
  * guessed one group per raw row). Bucket indexes are computed in float8 seconds
  * (date_part), not with extract(), which returns numeric since PostgreSQL 14.
  */
+import type pg from 'pg';
+import { bucketSeries } from './blocks/aggregate.js';
+import { readSeries } from './blocks/read.js';
 import { type Queryable, StoreError } from './errors.js';
 import { HOUR_MS, MINUTE_MS } from './rollups.js';
 
@@ -145,7 +148,6 @@ function trendSql(o: {
      ORDER BY g.b`;
 }
 
-const RAW_AGGREGATES = 'min(value) AS min, max(value) AS max, avg(value) AS mean, count(*)::int AS count';
 const ROLLUP_AGGREGATES =
   'min(min) AS min, max(max) AS max, sum(sum) / sum(count) AS mean, sum(count)::int AS count';
 
@@ -159,7 +161,34 @@ async function estimateRawRows(db: Queryable, tagId: number, from: Date, to: Dat
   return Number(res.rows[0]?.n ?? 0);
 }
 
-export async function readTrend(db: Queryable, request: TrendRequest): Promise<Trend> {
+/**
+ * Raw trend from readSeries (hot rows and decoded blocks alike), bucketed as the SQL of the
+ * other sources: index floor((t [s] - from [s]) / width [s]) in float8, mean summed in time order.
+ */
+async function rawTrend(
+  db: pg.Pool | pg.ClientBase,
+  tagId: number,
+  from: Date,
+  to: Date,
+  bucketMs: number,
+): Promise<TrendBucket[]> {
+  const series = (await readSeries(db, [tagId], from.getTime(), to.getTime())).get(tagId);
+  if (series === undefined) return [];
+  const fromS = from.getTime() / 1000;
+  const widthS = bucketMs / 1000;
+  return bucketSeries(series, (ms) => Math.floor((ms / 1000 - fromS) / widthS)).map((b) => ({
+    index: b.index,
+    start: new Date(from.getTime() + b.index * bucketMs),
+    min: b.min,
+    max: b.max,
+    mean: b.sum / b.count,
+    last: b.last,
+    lastTime: new Date(b.lastTime),
+    count: b.count,
+  }));
+}
+
+export async function readTrend(db: pg.Pool | pg.ClientBase, request: TrendRequest): Promise<Trend> {
   const { series, from, to, buckets } = request;
   const span = to.getTime() - from.getTime();
   const rawRowLimit = request.rawRowLimit ?? RAW_ROW_LIMIT;
@@ -182,27 +211,18 @@ export async function readTrend(db: Queryable, request: TrendRequest): Promise<T
       bucketMs >= 4 * HOUR_MS
         ? 'rollup_1h'
         : chooseTagSource(bucketMs, await estimateRawRows(db, key, from, to), rawRowLimit);
-    sql =
-      source === 'raw'
-        ? trendSql({
-            table: 'samples',
-            keyColumn: 'tag_id',
-            timeColumn: 'time',
-            aggregates: RAW_AGGREGATES,
-            latest: 'time',
-            lastValue: 'value',
-            lastTime: 'time',
-          })
-        : trendSql({
-            table: source === 'rollup_1h' ? 'samples_1h' : 'samples_1m',
-            keyColumn: 'tag_id',
-            timeColumn: 'bucket',
-            aggregates: ROLLUP_AGGREGATES,
-            // Rollup buckets do not overlap, so the latest bucket holds the latest sample.
-            latest: 'bucket',
-            lastValue: 'last_value',
-            lastTime: 'last_time',
-          });
+    if (source === 'raw')
+      return { source, bucketSeconds, buckets: await rawTrend(db, key, from, to, bucketMs) };
+    sql = trendSql({
+      table: source === 'rollup_1h' ? 'samples_1h' : 'samples_1m',
+      keyColumn: 'tag_id',
+      timeColumn: 'bucket',
+      aggregates: ROLLUP_AGGREGATES,
+      // Rollup buckets do not overlap, so the latest bucket holds the latest sample.
+      latest: 'bucket',
+      lastValue: 'last_value',
+      lastTime: 'last_time',
+    });
   } else {
     const column = RESULT_FIELDS[series.field];
     if (column === undefined) {

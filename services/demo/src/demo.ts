@@ -1,7 +1,7 @@
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import type { PlantFile } from '@isentrope/plant';
-import { type AppliedPlant, applyPlant, SampleWriter } from '@isentrope/store';
+import { type AppliedPlant, applyPlant, packSamples, SampleWriter } from '@isentrope/store';
 import type pg from 'pg';
 import { writeDemoHistory } from './history.js';
 import { type LiveFeed, startLiveFeed } from './live.js';
@@ -29,6 +29,8 @@ export interface DemoOptions {
   readonly now?: () => number;
   /** Progress of the history write, 0..1. */
   readonly onHistoryProgress?: (done: number) => void;
+  /** Pack the history written, older than the pack age, into compressed blocks (default true). */
+  readonly pack?: boolean;
 }
 
 export interface PreparedDemo {
@@ -40,6 +42,8 @@ export interface PreparedDemo {
   /** True when this call wrote the history (first start). */
   readonly createdHistory: boolean;
   readonly samplesWritten: number;
+  /** Samples of it packed into compressed blocks (packSamples) by this call. */
+  readonly samplesPacked: number;
   readonly opcuaEndpoint: string;
   readonly dropFolder: string;
 }
@@ -128,6 +132,11 @@ export async function prepareDemo(options: DemoOptions): Promise<PreparedDemo> {
     await writer.close();
     await writeState(options.pool, 'history-end', to);
   }
+  // What the pack job would do within the hour, done now: the history is stored as blocks from the start.
+  const packed =
+    written > 0 && (options.pack ?? true)
+      ? (await packSamples(options.pool, { nowMs: now() })).rowsRemoved
+      : 0;
   return {
     plant,
     applied,
@@ -135,6 +144,7 @@ export async function prepareDemo(options: DemoOptions): Promise<PreparedDemo> {
     historyEnd: to,
     createdHistory: spanStart === undefined,
     samplesWritten: written,
+    samplesPacked: packed,
     opcuaEndpoint,
     dropFolder,
   };

@@ -27,6 +27,7 @@ export const JOBS_ERRORS = {
   },
   JOBS_BAD_SAMPLES: {
     meaning: 'The database sent sample rows in a form the reader does not expect (the offset is given).',
+    retired: true,
   },
 } as const satisfies ErrorCatalog;
 

@@ -11,5 +11,6 @@ export * from './errors.js';
 export * from './instrument/gauge-absolute.js';
 export * from './monthly/job.js';
 export * from './notifications/sender.js';
+export * from './pack/job.js';
 export { readResults, writeResults } from './queries/results.js';
 export * from './scheduler.js';

@@ -1,3 +1,4 @@
+import { TAG_LOCK_CLASS } from '@isentrope/store';
 import pino from 'pino';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
@@ -64,6 +65,34 @@ describe('scheduler leases', () => {
     );
     expect(runs.rows.map((r) => r.error)).toEqual(['disk on fire (invented)', 'disk on fire (invented)']);
     expect(await s.runTick('monthly', 1000)).toBe('no-job');
+    await s.stop();
+  });
+
+  it('does not hold a sample writer lock: a tick of the compute job (key 1) lets tag 1 be written', async () => {
+    const s = await startJobs({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger: silent,
+      config: {},
+      manual: true,
+      jobs: {
+        // Takes the writer's per-tag lock on tag 1 (TAG_LOCK_CLASS) on another connection.
+        compute: async () => {
+          const c = await db.pool.connect();
+          try {
+            await c.query('BEGIN');
+            const got = await c.query<{ ok: boolean }>('SELECT pg_try_advisory_xact_lock($1, 1) AS ok', [
+              TAG_LOCK_CLASS,
+            ]);
+            await c.query('COMMIT');
+            if (got.rows[0]?.ok !== true) throw new Error('tag 1 is locked by the tick');
+          } finally {
+            c.release();
+          }
+        },
+      },
+    });
+    expect(await s.runTick('compute', Date.UTC(2026, 0, 2))).toBe('ran');
     await s.stop();
   });
 });

@@ -11,11 +11,14 @@ import pg from 'pg';
 import type { Logger } from 'pino';
 import { type AnalysisJobsConfig, analysisJobBodies } from './alerts/bodies.js';
 import { type ComputeJobOptions, runComputeOnce } from './compute/job.js';
+import { type PackJobOptions, runPackOnce } from './pack/job.js';
 
-export type JobName = 'compute' | 'alerts' | 'notifications' | 'monthly' | 'retention';
+export type JobName = 'compute' | 'alerts' | 'notifications' | 'monthly' | 'retention' | 'pack';
 
 export interface JobsConfig extends AnalysisJobsConfig {
   readonly compute?: ComputeJobOptions;
+  /** The pack job (raw samples into compressed blocks); packs by default. */
+  readonly pack?: PackJobOptions;
 }
 
 export interface JobsDeps {
@@ -50,6 +53,7 @@ export const SCHEDULES: Readonly<Record<JobName, string>> = {
   // plus the settle time (sites may be in several zones, offsets in half and quarter hours).
   monthly: '0 0 * * * *',
   retention: '0 30 3 * * *', // daily
+  pack: '0 15 * * * *', // hourly: whole UTC days older than the pack age
 };
 
 /** The tick time a firing belongs to: the start of its period [ms]. */
@@ -59,13 +63,16 @@ export function tickTime(job: JobName, nowMs: number): number {
 }
 
 /** A stable 32-bit key per job for pg_try_advisory_lock(int, int). */
-const LOCK_CLASS = 0x15e7; // "isentrope jobs"
+// Not 0x15e7: that class is the sample writer's per-tag locks (TAG_LOCK_CLASS, keyed by tag id),
+// and a tick holding (0x15e7, 1) for its whole run blocked every writer of tag 1.
+const LOCK_CLASS = 0x15e9; // "isentrope jobs"
 const LOCK_KEYS: Readonly<Record<JobName, number>> = {
   compute: 1,
   alerts: 2,
   notifications: 3,
   monthly: 4,
   retention: 5,
+  pack: 6,
 };
 
 export async function startJobs(deps: JobsDeps): Promise<JobsService> {
@@ -79,6 +86,7 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
         nowMs: tickMs,
         onMachineError: (machineId, err) => log.error({ err, machineId }, 'compute failed for a machine'),
       }),
+    pack: (tickMs) => runPackOnce(deps.pool, { ...deps.config.pack, nowMs: tickMs, logger: log }),
     ...analysisJobBodies({ pool: deps.pool, config: deps.config, logger: log }),
     ...deps.jobs,
   };

@@ -1,3 +1,4 @@
+import { bucketSeries, readSeries } from '@isentrope/store';
 import type pg from 'pg';
 
 export interface SampleRow {
@@ -6,7 +7,13 @@ export interface SampleRow {
   quality: number;
 }
 
-/** Raw samples of a tag in [from, to), oldest first, keyset-paginated on time. */
+/** First window of a page [ms]; doubled while a page is not full, so sparse tags take few reads. */
+const FIRST_WINDOW_MS = 3_600_000;
+
+/**
+ * Raw samples of a tag in [from, to), oldest first, keyset-paginated on time: hot rows and
+ * packed blocks alike (readSeries), read in growing windows until the page is full.
+ */
 export async function listSamples(
   pool: pg.Pool,
   tagId: number,
@@ -15,13 +22,21 @@ export async function listSamples(
   limit: number,
   afterMs: number | undefined,
 ): Promise<SampleRow[]> {
-  const { rows } = await pool.query<SampleRow>(
-    `SELECT time, value, quality FROM samples
-      WHERE tag_id = $1 AND time >= $2 AND time < $3 AND ($4::timestamptz IS NULL OR time > $4)
-      ORDER BY time LIMIT $5`,
-    [tagId, new Date(fromMs), new Date(toMs), afterMs === undefined ? null : new Date(afterMs), limit],
-  );
-  return rows;
+  const out: SampleRow[] = [];
+  let start = afterMs === undefined ? fromMs : Math.max(fromMs, afterMs);
+  let window = FIRST_WINDOW_MS;
+  while (out.length < limit && start < toMs) {
+    const end = Math.min(toMs, start + window);
+    const s = (await readSeries(pool, [tagId], start, end)).get(tagId);
+    for (let i = 0; s !== undefined && i < s.times.length && out.length < limit; i++) {
+      const t = s.times[i] as number;
+      if (afterMs !== undefined && !(t > afterMs)) continue;
+      out.push({ time: new Date(t), value: s.values[i] as number, quality: s.qualities[i] as number });
+    }
+    start = end;
+    window *= 2;
+  }
+  return out;
 }
 
 export interface SampleBucket {
@@ -39,7 +54,7 @@ export function trendSource(spanMs: number): 'samples' | 'samples_1m' | 'samples
   return 'samples_1h';
 }
 
-/** Downsampled samples: min, max, mean and count per bucket, from the raw table or a rollup. */
+/** Downsampled samples: min, max, mean and count per bucket, from raw samples (readSeries) or a rollup. */
 export async function sampleTrend(
   pool: pg.Pool,
   tagId: number,
@@ -49,18 +64,23 @@ export async function sampleTrend(
 ): Promise<{ widthMs: number; source: string; buckets: SampleBucket[] }> {
   const widthMs = Math.max(1000, Math.ceil((toMs - fromMs) / buckets));
   const source = trendSource(toMs - fromMs);
-  const [timeCol, minE, maxE, sumE, countE] =
-    source === 'samples'
-      ? ['time', 'min(value)', 'max(value)', 'sum(value)', 'count(*)']
-      : ['bucket', 'min(min)', 'max(max)', 'sum(sum)', 'sum(count)'];
-  const { rows } = await pool.query<{ b: number; mn: number; mx: number; s: number; n: number }>(
-    `SELECT floor((extract(epoch FROM ${timeCol}) * 1000 - $2::float8) / $4::float8)::int AS b,
-            ${minE} AS mn, ${maxE} AS mx, ${sumE} AS s, ${countE}::int AS n
-       FROM ${source}
-      WHERE tag_id = $1 AND ${timeCol} >= to_timestamp($2::float8 / 1000) AND ${timeCol} < to_timestamp($3::float8 / 1000)
-      GROUP BY 1 ORDER BY 1`,
-    [tagId, fromMs, toMs, widthMs],
-  );
+  let rows: { b: number; mn: number; mx: number; s: number; n: number }[];
+  if (source === 'samples') {
+    const series = (await readSeries(pool, [tagId], fromMs, toMs)).get(tagId);
+    rows = (
+      series === undefined ? [] : bucketSeries(series, (ms) => Math.floor((ms - fromMs) / widthMs))
+    ).map((b) => ({ b: b.index, mn: b.min, mx: b.max, s: b.sum, n: b.count }));
+  } else {
+    const res = await pool.query<{ b: number; mn: number; mx: number; s: number; n: number }>(
+      `SELECT floor((extract(epoch FROM bucket) * 1000 - $2::float8) / $4::float8)::int AS b,
+              min(min) AS mn, max(max) AS mx, sum(sum) AS s, sum(count)::int AS n
+         FROM ${source}
+        WHERE tag_id = $1 AND bucket >= to_timestamp($2::float8 / 1000) AND bucket < to_timestamp($3::float8 / 1000)
+        GROUP BY 1 ORDER BY 1`,
+      [tagId, fromMs, toMs, widthMs],
+    );
+    rows = res.rows;
+  }
   return {
     widthMs,
     source,

@@ -132,7 +132,7 @@ async function startParts(
       days: config.demoDays,
       onHistoryProgress: (done) => progress.update(done),
     });
-    progress.done(`${demo.samplesWritten} samples`);
+    progress.done(`${demo.samplesWritten} samples, ${demo.samplesPacked} packed into blocks`);
     if (demo.samplesWritten > 0) await computeDemoHistory(db.pool, demo, demoLog);
     const feed = await startDemoFeed(demo, {
       dataDir: config.dataDir,

@@ -27,7 +27,7 @@ import {
   prepareTag,
   type ResultWindow,
 } from '@isentrope/compute';
-import { inTransaction } from '@isentrope/store';
+import { inTransaction, percentileCont, readSeries } from '@isentrope/store';
 import { parseQuantity } from '@isentrope/thermo';
 import type pg from 'pg';
 import { recomputeStoredRows } from '../compute/job.js';
@@ -68,24 +68,9 @@ export interface GaugeAbsoluteRunStats {
 
 const DAY_MS = 86_400_000;
 
-/** Median of a tag's raw samples over [fromMs, toMs] [tag unit]; undefined without samples. */
-async function sampleMedian(
-  db: Queryable,
-  tagId: number,
-  fromMs: number,
-  toMs: number,
-): Promise<number | undefined> {
-  const r = await db.query<{ m: number | null }>(
-    `SELECT percentile_cont(0.5) WITHIN GROUP (ORDER BY value) AS m FROM samples
-      WHERE tag_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time <= to_timestamp($3::float8 / 1000)`,
-    [tagId, Number.isFinite(fromMs) ? fromMs : -8.64e15, toMs],
-  );
-  return r.rows[0]?.m ?? undefined;
-}
-
 /** The site's ambient pressure [Pa]: configured, else the barometer's median over [fromMs, toMs]. */
 async function ambientOf(
-  db: Queryable,
+  db: pg.PoolClient,
   row: MachineRow,
   fromMs: number,
   toMs: number,
@@ -93,7 +78,9 @@ async function ambientOf(
   if (row.siteAmbientPressure !== null) return parseQuantity(row.siteAmbientPressure).valueSI;
   if (row.barometer === undefined) return undefined;
   const baro = prepareTag(row.barometer);
-  const m = await sampleMedian(db, baro.id, fromMs, toMs);
+  // Hot rows and packed blocks alike; [fromMs, toMs] inclusive, times are whole microseconds.
+  const series = await readSeries(db, [baro.id], Number.isFinite(fromMs) ? fromMs : -Infinity, toMs + 0.001);
+  const m = percentileCont(series.get(baro.id)?.values ?? [], 0.5);
   // A barometer reads absolute; a gauge barometer would make no sense and is not corrected.
   return m === undefined ? undefined : baro.intercept + baro.slope * m;
 }

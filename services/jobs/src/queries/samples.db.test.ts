@@ -1,7 +1,7 @@
 import { ensurePartitions } from '@isentrope/store';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
-import { decodeSampleCopy, earliestSample, readSamples } from './samples.js';
+import { earliestSample, readSamples } from './samples.js';
 
 const T0 = Date.UTC(2026, 4, 31, 23, 0); // the range crosses a monthly partition boundary
 const MINUTE = 60_000;
@@ -63,31 +63,5 @@ describe('readSamples (binary COPY out) on PostgreSQL', () => {
   it('earliestSample finds the first time of the given tags', async () => {
     expect(await earliestSample(db.pool, [1, 2])).toBe(T0 + 123);
     expect(await earliestSample(db.pool, [99])).toBeUndefined();
-  });
-});
-
-describe('decodeSampleCopy', () => {
-  it('refuses a tuple of an unexpected shape instead of reading garbage', () => {
-    const b = Buffer.alloc(19 + 8);
-    b.writeInt16BE(3, 19); // three fields where four are expected
-    expect(() => decodeSampleCopy(b)).toThrow(/unexpected tuple/);
-  });
-
-  it('refuses arrays whose header or size does not match', () => {
-    // One tuple: tag 7, then a timestamptz array claiming two elements with room for one.
-    const b = Buffer.alloc(19 + 10 + 24 + 12 + 2);
-    let o = 19;
-    o = b.writeInt16BE(4, o);
-    o = b.writeInt32BE(4, o);
-    o = b.writeInt32BE(7, o);
-    o = b.writeInt32BE(20 + 12, o); // bytes of the array: header and one element
-    o = b.writeInt32BE(1, o); // ndim
-    o = b.writeInt32BE(0, o); // no NULLs
-    o = b.writeInt32BE(1184, o); // timestamptz
-    o = b.writeInt32BE(2, o); // two elements: wrong
-    b.writeInt32BE(1, o); // lower bound
-    expect(() => decodeSampleCopy(b)).toThrow(/timestamptz array size/);
-    b.writeInt32BE(701, 19 + 10 + 12); // float8 where timestamptz belongs
-    expect(() => decodeSampleCopy(b)).toThrow(/array header/);
   });
 });
