@@ -15,6 +15,9 @@ export const INGEST_ERROR_CODES = {
   INGEST_STOPPED: 'The ingest service was stopped.',
   INGEST_UNAUTHORIZED: 'HTTP push without a valid bearer token (401).',
   INGEST_BAD_BATCH: 'HTTP push body is not a JSON array of samples, or too large (400/413).',
+  INGEST_RATE_LIMITED:
+    "HTTP push beyond the route's own rate limit (429); the Retry-After header says when to send again.",
+  INGEST_INTERNAL: 'HTTP push failed for a reason of ours (500); logged with its cause.',
 } as const;
 
 export type IngestErrorCode = keyof typeof INGEST_ERROR_CODES;

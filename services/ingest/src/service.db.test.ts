@@ -124,7 +124,14 @@ describe('startIngest', () => {
         headers: { authorization: 'Bearer t0ken' },
         payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
       });
-      expect(res.json()).toEqual({ accepted: 1, rejected: [] });
+      expect(res.json()).toEqual({
+        accepted: 1,
+        stored: 1,
+        duplicates: 0,
+        conflicts: [],
+        rejected: [],
+        items: ['stored'],
+      });
       const again = await app.inject({
         method: 'POST',
         url: '/ingest/samples',
@@ -132,6 +139,7 @@ describe('startIngest', () => {
         payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
       });
       expect(again.statusCode).toBe(200);
+      expect(again.json()).toMatchObject({ accepted: 0, stored: 0, duplicates: 1, items: ['duplicate'] });
       const pushed = await db.pool.query<{ n: number }>(
         `SELECT count(*)::int AS n FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.PI-100' AND s.time = '2026-02-03T09:00:00Z'`,
       );

@@ -15,7 +15,7 @@ import type { HttpPushOptions } from './http.js';
 import { renderIngestMetrics, SourceMetrics, type SourceMetricsSnapshot } from './metrics.js';
 import { type OpcuaItem, OpcuaSource, type OpcuaSourceOptions } from './opcua.js';
 import { loadTagLookup } from './tags.js';
-import type { SampleSink, TagLookup } from './types.js';
+import type { CommittedSampleSink, TagLookup } from './types.js';
 
 /** CSV options beyond the plant file's (delimiter, decimal comma, aliases, units row, formats, poll period). */
 export type CsvSourceExtras = CsvFormatInput & { readonly pollMs?: number };
@@ -37,7 +37,7 @@ export interface StartIngestOptions {
   /** On-disk buffer limits per streaming source [bytes]. */
   readonly buffer?: { readonly maxBytes?: number; readonly segmentBytes?: number };
   /** Sink for streaming sources and HTTP push (default: CommittedSink on the pool). */
-  readonly sink?: SampleSink;
+  readonly sink?: CommittedSampleSink;
 }
 
 export interface IngestHealth {
