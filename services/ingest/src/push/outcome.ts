@@ -7,7 +7,11 @@
 import type { CommittedSampleSink, Sample, SampleConflict, WriteReport } from '../types.js';
 import type { PushRejection } from './items.js';
 
-export type PushItemStatus = 'stored' | 'duplicate' | 'conflict' | 'rejected';
+/**
+ * 'stored-or-duplicate': the store holds the item's value for its key, stored now or before; the
+ * store counted both kinds in this batch without naming which rows were the duplicates.
+ */
+export type PushItemStatus = 'stored' | 'duplicate' | 'stored-or-duplicate' | 'conflict' | 'rejected';
 
 export interface PushConflict {
   readonly index: number;
@@ -55,19 +59,16 @@ function sameReading(a: { value: number; quality: number }, b: { value: number; 
  * Status of the leads the store was given. Conflicts come with their ref; stored and duplicate
  * are told apart by duplicateRefs, or by a count of 0 on either side.
  */
-function leadStatus(leads: readonly Sample[], report: WriteReport): (lead: Sample) => PushItemStatus {
+function leadStatus(report: WriteReport): (lead: Sample) => PushItemStatus {
   const conflicted = new Set(report.conflicts.map((c) => c.ref));
   const duplicated = new Set(report.duplicateRefs ?? []);
-  const unresolved = report.duplicateRefs === undefined && report.duplicates > 0 && report.stored > 0;
-  if (unresolved) {
-    throw new Error(
-      `the store reported ${report.stored} stored and ${report.duplicates} duplicate samples without naming the duplicates (${leads.length} offered)`,
-    );
-  }
-  const allDuplicates = report.duplicateRefs === undefined && report.duplicates > 0;
+  const named = report.duplicateRefs !== undefined;
+  const unnamed: PushItemStatus =
+    report.duplicates === 0 ? 'stored' : report.stored === 0 ? 'duplicate' : 'stored-or-duplicate';
   return (lead) => {
     if (conflicted.has(lead.ref)) return 'conflict';
-    return allDuplicates || (lead.ref !== undefined && duplicated.has(lead.ref)) ? 'duplicate' : 'stored';
+    if (!named) return unnamed;
+    return lead.ref !== undefined && duplicated.has(lead.ref) ? 'duplicate' : 'stored';
   };
 }
 
@@ -92,20 +93,16 @@ export async function storePushItems(
   const { leads, repeats } = splitRepeats(samples);
   const report: WriteReport =
     leads.length === 0 ? { stored: 0, duplicates: 0, conflicts: [] } : await sink.write(leads);
-  const status = leadStatus(leads, report);
+  const status = leadStatus(report);
   const storedConflict = new Map<number | undefined, SampleConflict>(report.conflicts.map((c) => [c.ref, c]));
   const conflicts: PushConflict[] = [];
-  let stored = 0;
-  let duplicates = 0;
+  let duplicates = report.duplicates;
   for (const lead of leads) {
     const st = status(lead);
     items[lead.ref ?? 0] = st;
-    if (st === 'stored') stored++;
-    else if (st === 'duplicate') duplicates++;
-    else {
-      const c = storedConflict.get(lead.ref)!;
+    const c = storedConflict.get(lead.ref);
+    if (st === 'conflict' && c !== undefined)
       conflicts.push(conflictOf(lead, { value: c.storedValue, quality: c.storedQuality }));
-    }
   }
   for (const { sample, lead } of repeats) {
     // The value the store now holds for this key: the lead's, unless the lead was refused.
@@ -121,5 +118,5 @@ export async function storePushItems(
   }
   for (const r of rejected) items[r.index] = 'rejected';
   conflicts.sort((a, b) => a.index - b.index);
-  return { stored, duplicates, conflicts, items };
+  return { stored: report.stored, duplicates, conflicts, items };
 }
