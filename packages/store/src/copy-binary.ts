@@ -36,6 +36,8 @@ export interface SampleRow {
   readonly time: number;
   readonly value: number;
   readonly quality: number;
+  /** The caller's reference (CSV line, push item index), echoed in write outcomes; never stored. */
+  readonly ref?: number | undefined;
 }
 
 /** One rollup row (min, max, sum, count, last) of a bucket; `hourly` picks samples_1h over samples_1m. */

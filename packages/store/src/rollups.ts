@@ -208,24 +208,60 @@ export const MERGE_ROLLUP_STAGE = `WITH m AS (
     ${mergeClause('samples_1h')}`;
 
 /**
- * Staging path: inserts samples_stage into samples, skipping stored keys, and merges the
- * rows really inserted into both rollups, in one statement. Buckets are cut by date_bin
- * from 2000-01-01 UTC so the session's TimeZone cannot shift an hour bucket.
+ * Every row of samples_stage, with the stored value and quality of its key (null when the
+ * key is new). The subquery is fenced (OFFSET 0) so each staged row probes the primary key:
+ * the staging table has no statistics, and a hash or merge join would read whole
+ * partitions of samples.
+ */
+const STAGED_WITH_STORED = `old AS (
+    SELECT s.tag_id, s.time, s.value, s.quality, p.value AS stored_value, p.quality AS stored_quality
+      FROM samples_stage s
+      LEFT JOIN LATERAL (SELECT value, quality FROM samples p WHERE p.tag_id = s.tag_id AND p.time = s.time OFFSET 0) p
+        ON true)`;
+
+/** Columns of the staging statement's one result row. */
+export interface StagedResult {
+  /** Rows inserted. */
+  readonly n: number;
+  /** Conflicting keys (another value bit for bit, or another quality), parallel arrays. */
+  readonly tag_ids: number[];
+  /** [ms since epoch] */
+  readonly times: number[];
+  readonly stored_values: number[];
+  readonly stored_qualities: number[];
+}
+
+/**
+ * Staging path: inserts the rows of samples_stage whose key is new, merges the rows really
+ * inserted into both rollups, and returns the staged keys stored with another value or
+ * quality, all in one statement. Every part of a statement sees the same snapshot, so `old`
+ * holds what was stored before this insert, never its own rows; ON CONFLICT DO NOTHING
+ * still guards a key stored meanwhile around the writer. The rows go in the order they were
+ * staged (the writer stages them sorted by key), so no sort. float8send compares values bit
+ * for bit (= holds -0 equal to 0). Buckets are cut by date_bin from 2000-01-01 UTC so the
+ * session's TimeZone cannot shift an hour bucket.
  */
 export function insertStagedSql(rollups: boolean): string {
   const insert = `INSERT INTO samples (tag_id, time, value, quality)
-      SELECT tag_id, time, value, quality FROM samples_stage ORDER BY tag_id, time
+      SELECT tag_id, time, value, quality FROM old WHERE stored_quality IS NULL
       ON CONFLICT DO NOTHING RETURNING tag_id, time, value`;
-  if (!rollups) return `WITH ins AS (${insert}) SELECT count(*)::int AS n FROM ins`;
   const agg = (
     width: string,
   ): string => `SELECT tag_id, date_bin(interval '${width}', time, timestamptz '2000-01-01 00:00+00'),
          min(value), max(value), sum(value), count(*)::int, (array_agg(value ORDER BY time DESC))[1], max(time)
       FROM ins GROUP BY 1, 2`;
-  return `WITH ins AS (${insert}),
-    m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
-    h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})
-    SELECT count(*)::int AS n FROM ins`;
+  const merges = rollups
+    ? `, m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
+    h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})`
+    : '';
+  return `WITH ${STAGED_WITH_STORED}, ins AS (${insert})${merges}
+    SELECT (SELECT count(*)::int FROM ins) AS n,
+           coalesce(array_agg(tag_id), '{}') AS tag_ids,
+           coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') AS times,
+           coalesce(array_agg(stored_value), '{}') AS stored_values,
+           coalesce(array_agg(stored_quality), '{}') AS stored_qualities
+      FROM old WHERE stored_quality IS NOT NULL
+       AND (float8send(value) <> float8send(stored_value) OR quality <> stored_quality)`;
 }
 
 export interface RebuildRollupsOptions {

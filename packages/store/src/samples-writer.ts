@@ -4,7 +4,8 @@
  * Each batch runs in one transaction: per-tag advisory locks (sorted, so no deadlock), a
  * cheap check against tag_last, then either COPY straight into `samples` (every key of the
  * batch is newer than the tag's last stored time) or COPY into a temporary staging table
- * and INSERT ... ON CONFLICT DO NOTHING. A re-sent batch therefore stores nothing twice;
+ * and INSERT ... ON CONFLICT DO NOTHING, which also reports the keys stored already as
+ * duplicates or conflicts (write-outcomes.ts). A re-sent batch therefore stores nothing twice;
  * should the fast path meet a key anyway (rows written around the writer), a savepoint
  * takes it back to the staging path. tag_last and the rollups are updated in the same
  * transaction, from the rows that were really new (see rollups.ts): no batch re-reads
@@ -28,11 +29,22 @@ import {
   MERGE_ROLLUP_STAGE,
   ROLLUP_STAGE_DDL,
   type SplitRollups,
+  type StagedResult,
   splitBatchRollups,
   TAG_LOCK_CLASS,
 } from './rollups.js';
+import {
+  type BatchOutcome,
+  conflictOf,
+  findRow,
+  type Repeat,
+  resolveRepeats,
+  sortUnique,
+  type WriteConflict,
+} from './write-outcomes.js';
 
 export type { SampleRow } from './copy-binary.js';
+export type { BatchOutcome, WriteConflict } from './write-outcomes.js';
 
 export interface SampleInput {
   readonly tagId: number;
@@ -42,6 +54,8 @@ export interface SampleInput {
   readonly value: number;
   /** OPC DA quality code as received (QUALITY_GOOD = 192, see quality.ts), a smallint. */
   readonly quality: number;
+  /** The caller's reference (CSV line, push item index), echoed in conflicts; never stored. */
+  readonly ref?: number;
 }
 
 export interface TagCompression {
@@ -65,6 +79,13 @@ export interface SampleWriterOptions {
   readonly compression?: ReadonlyMap<number, TagCompression>;
   /** Keep samples_1m / samples_1h up to date (default true). */
   readonly rollups?: boolean;
+  /**
+   * Called with the conflicts of each batch that has any (rows refused because their key
+   * is stored with another value or quality), after the batch committed and before the
+   * flush() covering it resolves. Should it throw, flush() rejects and a later flush()
+   * hands the same conflicts to it again.
+   */
+  readonly onConflicts?: (conflicts: readonly WriteConflict[]) => void | Promise<void>;
 }
 
 export interface SampleWriterStats {
@@ -72,6 +93,10 @@ export interface SampleWriterStats {
   rowsOffered: number;
   /** Rows new to the database. */
   rowsStored: number;
+  /** Rows whose key was stored (or earlier in the batch) with the same value and quality. */
+  rowsDuplicate: number;
+  /** Rows refused: key stored (or earlier in the batch) with another value or quality. */
+  rowsConflicting: number;
   batches: number;
   /** Batches that went straight into samples. */
   fastBatches: number;
@@ -126,45 +151,8 @@ function toRow(s: SampleInput, index: number): Row {
   if (!Number.isFinite(value)) throw badSample(s, index, time, `value ${value} is not a finite number`);
   if (!Number.isInteger(quality) || quality > SMALLINT_MAX || quality < -SMALLINT_MAX - 1)
     throw badSample(s, index, time, 'quality must be a smallint');
-  return { tagId, time, value, quality };
-}
-
-/**
- * Sort by (tag, time) and drop repeated keys inside the batch (first one wins, as in the
- * table). A batch already in order (the usual case for one source) is returned as is.
- */
-function sortUnique<R extends Row>(rows: R[]): R[] {
-  if (isSortedUnique(rows)) return rows;
-  // Group by tag first: batches usually arrive time-major (every tag at each instant), and
-  // each tag's rows are then already in time order, so no comparison sort of the batch.
-  const byTag = new Map<number, R[]>();
-  for (const r of rows) {
-    const group = byTag.get(r.tagId);
-    if (group === undefined) byTag.set(r.tagId, [r]);
-    else group.push(r);
-  }
-  const out: R[] = [];
-  for (const tag of [...byTag.keys()].sort((a, b) => a - b)) {
-    const group = byTag.get(tag)!;
-    let ordered = true;
-    for (let i = 1; i < group.length && ordered; i++) ordered = group[i - 1]!.time <= group[i]!.time;
-    // Array.prototype.sort is stable, so among repeated keys the first received stays first.
-    if (!ordered) group.sort((a, b) => a.time - b.time);
-    for (const r of group) {
-      const prev = out[out.length - 1];
-      if (prev === undefined || prev.tagId !== r.tagId || prev.time !== r.time) out.push(r);
-    }
-  }
-  return out;
-}
-
-function isSortedUnique(rows: readonly Row[]): boolean {
-  for (let i = 1; i < rows.length; i++) {
-    const a = rows[i - 1]!;
-    const b = rows[i]!;
-    if (a.tagId > b.tagId || (a.tagId === b.tagId && a.time >= b.time)) return false;
-  }
-  return true;
+  // ref always set (undefined when absent): one object shape for every row.
+  return { tagId, time, value, quality, ref: s.ref };
 }
 
 /** A batch ready for the database: sorted, unique, encoded. */
@@ -181,11 +169,13 @@ interface PreparedBatch {
   readonly data: Buffer;
   /** The batch's rollup rows for the fast path, when rollups are kept. */
   readonly rollups: SplitRollups | undefined;
-  /** The rows themselves, for the rare fallback that merges every rollup row. */
+  /** The rows themselves, for the staging path's outcomes and the rare rollup fallback. */
   readonly sorted: readonly Row[];
+  /** Later rows of keys the batch has more than once (set aside by sortUnique). */
+  readonly repeats: readonly Repeat[];
 }
 
-function prepareBatch(sorted: readonly Row[], rollups: boolean): PreparedBatch {
+function prepareBatch(sorted: readonly Row[], repeats: readonly Repeat[], rollups: boolean): PreparedBatch {
   let tMin = Number.POSITIVE_INFINITY;
   let tMax = Number.NEGATIVE_INFINITY;
   const tagIds: number[] = [];
@@ -217,6 +207,7 @@ function prepareBatch(sorted: readonly Row[], rollups: boolean): PreparedBatch {
     data: encodeSamples(sorted),
     rollups: rollups && sorted.length > 0 ? splitBatchRollups(sorted) : undefined,
     sorted,
+    repeats,
   };
 }
 
@@ -267,13 +258,122 @@ async function writeFastRollups(
   await client.query(MERGE_ROLLUP_STAGE);
 }
 
+/**
+ * Staging path, for a batch with keys at or before a tag's last stored time (or one the
+ * fast COPY met stored): COPY to samples_stage, then one statement inserts the new rows,
+ * merges them into the rollups and returns the keys stored with another value. Runs inside
+ * the batch's transaction, under its per-tag locks.
+ * Blocks (h4-blocks): routePackedRows(client, rows) goes first here; its packed rows go to
+ * mergeIntoBlocks (their outcome added to this one's) and only its hot rows are encoded
+ * and staged below.
+ */
+async function writeStaged(
+  client: pg.PoolClient,
+  rows: readonly Row[],
+  data: Buffer,
+  rollups: boolean,
+): Promise<Omit<BatchOutcome, 'fast'>> {
+  await copyBuffer(
+    client,
+    'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
+    data,
+  );
+  const r = (await client.query<StagedResult>(insertStagedSql(rollups))).rows[0]!;
+  const conflicts: WriteConflict[] = [];
+  for (let i = 0; i < r.tag_ids.length; i++) {
+    const row = findRow(rows, r.tag_ids[i]!, r.times[i]!);
+    if (row === undefined) {
+      // Cannot happen while times are whole milliseconds both ways; say so if it does.
+      const key = { tagId: r.tag_ids[i], time: r.times[i] };
+      throw new StoreError(
+        'STORE_WRITE_FAILED',
+        `staged key ${JSON.stringify(key)} is not in the batch`,
+        key,
+      );
+    }
+    conflicts.push(conflictOf(row, r.stored_values[i]!, r.stored_qualities[i]!));
+  }
+  // Rows neither inserted nor conflicting were stored with the same value: duplicates.
+  return { stored: r.n, duplicates: rows.length - r.n - conflicts.length, conflicts };
+}
+
+/** Fast path: COPY straight into samples; undefined when a key was stored after all. */
+async function copyFast(
+  client: pg.PoolClient,
+  batch: PreparedBatch,
+  rollups: boolean,
+  lap: (phase: keyof BatchPhaseTimes) => void,
+): Promise<number | undefined> {
+  await client.query('SAVEPOINT fast');
+  let stored: number;
+  try {
+    stored = await copyBuffer(
+      client,
+      'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
+      batch.data,
+    );
+  } catch (error) {
+    if (pgCode(error) !== '23505') throw error;
+    await client.query('ROLLBACK TO SAVEPOINT fast');
+    lap('copy');
+    return undefined;
+  }
+  lap('copy');
+  // Every row went in, so the batch's own aggregates are exactly what the rollups gain.
+  if (rollups && batch.rollups !== undefined) {
+    await writeFastRollups(client, batch.rollups, batch.sorted);
+    lap('rollups');
+  }
+  return stored;
+}
+
+/** The batch's transaction on one connection: locks, tag_last check, fast or staging path, tag_last. */
+async function writeInTransaction(
+  client: pg.PoolClient,
+  batch: PreparedBatch,
+  rollups: boolean,
+  lap: (phase: keyof BatchPhaseTimes) => void,
+): Promise<BatchOutcome> {
+  await client.query('BEGIN');
+  await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
+    TAG_LOCK_CLASS,
+    batch.tagIds,
+  ]);
+  const seen = await client.query<{ n: number }>(
+    `SELECT count(*)::int AS n FROM unnest($1::int[], $2::timestamptz[]) AS b(tag_id, t)
+       JOIN tag_last l USING (tag_id) WHERE l.time >= b.t`,
+    [batch.tagIds, batch.firstTimes],
+  );
+  lap('begin');
+  const copied = seen.rows[0]?.n === 0 ? await copyFast(client, batch, rollups, lap) : undefined;
+  let outcome: BatchOutcome;
+  if (copied !== undefined) {
+    outcome = { stored: copied, duplicates: 0, conflicts: [], fast: true };
+  } else {
+    outcome = { ...(await writeStaged(client, batch.sorted, batch.data, rollups)), fast: false };
+    lap('copy');
+  }
+  // Nothing new means every key was stored already, and tag_last is at least as late.
+  if (outcome.stored > 0) {
+    await client.query(
+      `INSERT INTO tag_last (tag_id, time, value)
+       SELECT * FROM unnest($1::int[], $2::timestamptz[], $3::float8[])
+       ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time`,
+      [batch.tagIds, batch.lastTimes, batch.lastValues],
+    );
+  }
+  await client.query('COMMIT');
+  lap('commit');
+  return outcome;
+}
+
 async function writePrepared(
   pool: pg.Pool,
   batch: PreparedBatch,
   rollups: boolean,
   phases: BatchPhaseTimes = zeroPhases(),
-): Promise<{ stored: number; fast: boolean }> {
-  if (batch.rows === 0) return { stored: 0, fast: true };
+): Promise<BatchOutcome> {
+  if (batch.rows === 0) return withRepeats({ stored: 0, duplicates: 0, conflicts: [], fast: true }, batch);
   let mark = performance.now();
   const lap = (phase: keyof BatchPhaseTimes): void => {
     const now = performance.now();
@@ -294,61 +394,7 @@ async function writePrepared(
         await client.query(ROLLUP_STAGE_DDL);
         staged.add(client);
       }
-      await client.query('BEGIN');
-      await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
-        TAG_LOCK_CLASS,
-        batch.tagIds,
-      ]);
-      const seen = await client.query<{ n: number }>(
-        `SELECT count(*)::int AS n FROM unnest($1::int[], $2::timestamptz[]) AS b(tag_id, t)
-           JOIN tag_last l USING (tag_id) WHERE l.time >= b.t`,
-        [batch.tagIds, batch.firstTimes],
-      );
-      let fast = seen.rows[0]?.n === 0;
-      let stored = 0;
-      lap('begin');
-      if (fast) {
-        await client.query('SAVEPOINT fast');
-        try {
-          stored = await copyBuffer(
-            client,
-            'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
-            batch.data,
-          );
-        } catch (error) {
-          if (pgCode(error) !== '23505') throw error;
-          await client.query('ROLLBACK TO SAVEPOINT fast');
-          fast = false;
-        }
-        lap('copy');
-        // Every row went in, so the batch's own aggregates are exactly what the rollups gain.
-        if (fast && rollups && batch.rollups !== undefined) {
-          await writeFastRollups(client, batch.rollups, batch.sorted);
-          lap('rollups');
-        }
-      }
-      if (!fast) {
-        await copyBuffer(
-          client,
-          'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
-          batch.data,
-        );
-        const ins = await client.query<{ n: number }>(insertStagedSql(rollups));
-        stored = ins.rows[0]?.n ?? 0;
-        lap('copy');
-      }
-      // Nothing new means every key was stored already, and tag_last is at least as late.
-      if (stored > 0) {
-        await client.query(
-          `INSERT INTO tag_last (tag_id, time, value)
-           SELECT * FROM unnest($1::int[], $2::timestamptz[], $3::float8[])
-           ON CONFLICT (tag_id) DO UPDATE SET time = excluded.time, value = excluded.value WHERE excluded.time > tag_last.time`,
-          [batch.tagIds, batch.lastTimes, batch.lastValues],
-        );
-      }
-      await client.query('COMMIT');
-      lap('commit');
-      return { stored, fast };
+      return withRepeats(await writeInTransaction(client, batch, rollups, lap), batch);
     } catch (error) {
       await client.query('ROLLBACK').catch(() => {});
       // 23514: "no partition of relation found for row": a partition was dropped behind our cache.
@@ -363,19 +409,30 @@ async function writePrepared(
   }
 }
 
+/** Adds the outcomes of the batch's repeated keys (decided here, with no query). */
+function withRepeats(outcome: BatchOutcome, batch: PreparedBatch): BatchOutcome {
+  if (batch.repeats.length === 0) return outcome;
+  const r = resolveRepeats(batch.repeats, outcome.conflicts);
+  return {
+    ...outcome,
+    duplicates: outcome.duplicates + r.duplicates,
+    conflicts: outcome.conflicts.concat(r.conflicts),
+  };
+}
+
 /**
- * Writes one batch in one transaction; returns [rows stored, whether the fast path was
- * used]. Rows should come sorted by (tag, time) without repeated keys (a batch that is not
- * is sorted and de-duplicated here, first row of a key winning); times in [ms since epoch].
+ * Writes one batch in one transaction and says what became of its rows (BatchOutcome).
+ * Rows may come in any order and with repeated keys (sorted here; the first row of a key
+ * is its candidate); times in [ms since epoch].
  */
 export async function writeSampleBatch(
   pool: pg.Pool,
   rows: readonly SampleRow[],
   options: { rollups?: boolean } = {},
-): Promise<{ stored: number; fast: boolean }> {
+): Promise<BatchOutcome> {
   const rollups = options.rollups ?? true;
-  const sorted = isSortedUnique(rows) ? rows : sortUnique([...rows]);
-  return writePrepared(pool, prepareBatch(sorted, rollups), rollups);
+  const { rows: sorted, repeats } = sortUnique(rows);
+  return writePrepared(pool, prepareBatch(sorted, repeats, rollups), rollups);
 }
 
 /**
@@ -387,6 +444,8 @@ export class SampleWriter {
   readonly stats: SampleWriterStats = {
     rowsOffered: 0,
     rowsStored: 0,
+    rowsDuplicate: 0,
+    rowsConflicting: 0,
     batches: 0,
     fastBatches: 0,
     stagedBatches: 0,
@@ -395,6 +454,9 @@ export class SampleWriter {
   private readonly batchSize: number;
   private readonly maxQueued: number;
   private readonly rollups: boolean;
+  private readonly onConflicts: SampleWriterOptions['onConflicts'];
+  /** Conflicts of a committed batch not yet taken by onConflicts (it threw). */
+  private undelivered: readonly WriteConflict[] | undefined;
   private readonly compressors = new Map<number, Compressor>();
   private readonly lastTime = new Map<number, number>();
   private pending: Row[] = [];
@@ -412,6 +474,7 @@ export class SampleWriter {
     this.batchSize = options.batchSize ?? 20_000;
     this.maxQueued = options.maxQueuedBatches ?? 4;
     this.rollups = options.rollups ?? true;
+    this.onConflicts = options.onConflicts;
     if (!(this.batchSize >= 1) || !(this.maxQueued >= 1)) {
       throw new StoreError('STORE_BAD_REQUEST', 'batchSize and maxQueuedBatches must be at least 1', {
         ...options,
@@ -442,11 +505,11 @@ export class SampleWriter {
   async flush(): Promise<void> {
     if (this.pending.length > 0) await this.enqueue(this.pending.splice(0));
     // A failed batch stays at the head of the queue: flush() is the retry.
-    if (this.failure !== undefined && this.queue.length > 0) {
+    if (this.failure !== undefined && (this.queue.length > 0 || this.undelivered !== undefined)) {
       this.failure = undefined;
       this.start();
     }
-    while (this.queue.length > 0 || this.running) {
+    while (this.queue.length > 0 || this.undelivered !== undefined || this.running) {
       if (this.failure !== undefined) throw this.wrapFailure();
       await this.changed();
     }
@@ -507,7 +570,8 @@ export class SampleWriter {
 
   private prepare(rows: Row[]): PreparedBatch {
     const t = performance.now();
-    const batch = prepareBatch(sortUnique(rows), this.rollups);
+    const { rows: sorted, repeats } = sortUnique(rows);
+    const batch = prepareBatch(sorted, repeats, this.rollups);
     this.stats.phaseMs.prepare += performance.now() - t;
     return batch;
   }
@@ -520,14 +584,18 @@ export class SampleWriter {
 
   private async run(): Promise<void> {
     try {
-      while (this.queue.length > 0) {
-        const batch = this.queue[0]!;
-        const { stored, fast } = await writePrepared(this.pool, batch, this.rollups, this.stats.phaseMs);
+      for (;;) {
+        if (this.undelivered !== undefined) {
+          await this.onConflicts?.(this.undelivered);
+          this.undelivered = undefined;
+        }
+        const batch = this.queue[0];
+        if (batch === undefined) break;
+        const outcome = await writePrepared(this.pool, batch, this.rollups, this.stats.phaseMs);
         this.queue.shift();
-        this.stats.batches++;
-        this.stats.rowsStored += stored;
-        if (fast) this.stats.fastBatches++;
-        else this.stats.stagedBatches++;
+        this.count(outcome);
+        if (outcome.conflicts.length > 0 && this.onConflicts !== undefined)
+          this.undelivered = outcome.conflicts;
         this.notify();
       }
     } catch (error) {
@@ -536,6 +604,16 @@ export class SampleWriter {
       this.running = false;
       this.notify();
     }
+  }
+
+  private count(outcome: BatchOutcome): void {
+    const s = this.stats;
+    s.batches++;
+    s.rowsStored += outcome.stored;
+    s.rowsDuplicate += outcome.duplicates;
+    s.rowsConflicting += outcome.conflicts.length;
+    if (outcome.fast) s.fastBatches++;
+    else s.stagedBatches++;
   }
 
   private wrapFailure(): StoreError {

@@ -85,6 +85,7 @@ describe('SampleWriter', () => {
     await w.write(again);
     await w.close();
     expect(w.stats.rowsStored).toBe(2500);
+    expect(w.stats.rowsConflicting).toBe(2500);
     expect(w.stats.stagedBatches).toBe(3);
     expect(await snapshot()).toEqual(before);
     expect(await count('SELECT count(*)::int AS n FROM samples WHERE tag_id = 1')).toBe(2500);
@@ -211,7 +212,7 @@ describe('rollups kept in step with raw samples', () => {
     // The next batch is newer than tag_last, so its samples go in by COPY; its minute 20
     // bucket exists already, so its rollups must be merged, not copied.
     const r = await writeSampleBatch(db.pool, asRows(samples(70, 1800, 1000, start + 300_000)));
-    expect(r).toEqual({ stored: 1800, fast: true });
+    expect(r).toEqual({ stored: 1800, duplicates: 0, conflicts: [], fast: true });
     // Minutes 0-4 from the first batch, 5-34 from the second (the late sample is in minute 20).
     expect(await rollupMismatches('samples_1m', [70])).toMatchObject({ bad: 0, n: 35 });
     expect(await rollupMismatches('samples_1h', [70])).toMatchObject({ bad: 0, n: 1 });
@@ -225,7 +226,8 @@ describe('rollups kept in step with raw samples', () => {
       .map((x) => ({ ...x, value: x.value + 7 }))
       .reverse();
     const r = await writeSampleBatch(db.pool, again);
-    expect(r).toEqual({ stored: 200, fast: false });
+    expect(r).toMatchObject({ stored: 200, duplicates: 0, fast: false });
+    expect(r.conflicts).toHaveLength(100);
     expect(await rollupMismatches('samples_1m', [71])).toMatchObject({ bad: 0, n: 5 });
     expect(await rollupMismatches('samples_1h', [71])).toMatchObject({ bad: 0 });
   });
