@@ -12,7 +12,7 @@ import type { DiskBuffer } from './buffer.js';
 import { errorMessage } from './errors.js';
 import type { SourceMetrics } from './metrics.js';
 import { groupsBySpan } from './span.js';
-import type { CommittedSampleSink, Sample, SampleSink, WriteReport } from './types.js';
+import type { CommittedSampleSink, Sample, SampleConflict, SampleSink, WriteReport } from './types.js';
 
 /**
  * Keeps a lost database connection from crashing the process: pg emits 'error' on a
@@ -41,22 +41,23 @@ export class CommittedSink implements CommittedSampleSink {
   async write(samples: readonly Sample[]): Promise<WriteReport> {
     let stored = 0;
     let duplicates = 0;
+    const conflicts: SampleConflict[] = [];
     for (const group of groupsBySpan(samples)) {
       for (let i = 0; i < group.length; i += this.chunk) {
-        const rows = group.slice(i, i + this.chunk).map(toRow);
-        const outcome = await writeSampleBatch(this.pool, rows);
+        const outcome = await writeSampleBatch(this.pool, group.slice(i, i + this.chunk).map(toRow));
         stored += outcome.stored;
-        duplicates += rows.length - outcome.stored;
+        duplicates += outcome.duplicates;
+        conflicts.push(...outcome.conflicts);
       }
     }
-    return { stored, duplicates, conflicts: [] };
+    return { stored, duplicates, conflicts };
   }
 
   async flush(): Promise<void> {}
 }
 
 function toRow(s: Sample): SampleRow {
-  return { tagId: s.tagId, time: s.time.getTime(), value: s.value, quality: s.quality };
+  return { tagId: s.tagId, time: s.time.getTime(), value: s.value, quality: s.quality, ref: s.ref };
 }
 
 export interface ForwarderOptions {

@@ -70,3 +70,54 @@ describe('push into the store: absurd times', () => {
     ]);
   });
 });
+
+// Issue 18 item 9: three items of one key answered accepted: 3 (1 stored); a later other value accepted: 1, not stored.
+describe('push into the store: what became of each item', () => {
+  const t = '2026-02-02T00:00:00Z';
+  it('names stored, duplicate and conflict per item, inside one batch and against stored values', async () => {
+    const first = await push([
+      { tag: 'ST1.FI-100', time: t, value: 120 },
+      { tag: 'ST1.FI-100', time: t, value: 120 },
+      { tag: 'ST1.FI-100', time: t, value: 121, quality: 192 },
+      { tag: 'ST1.FI-100', time: t, value: 120, quality: 64 },
+      { tag: 'NOPE', time: t, value: 1 },
+    ]);
+    expect(first.statusCode).toBe(200);
+    expect(first.json()).toMatchObject({
+      accepted: 1,
+      stored: 1,
+      duplicates: 1,
+      items: ['stored', 'duplicate', 'conflict', 'conflict', 'rejected'],
+      conflicts: [
+        { index: 2, value: 121, quality: 192, storedValue: 120, storedQuality: 192 },
+        { index: 3, value: 120, quality: 64, storedValue: 120, storedQuality: 192 },
+      ],
+    });
+    const later = await push([
+      { tag: 'ST1.FI-100', time: t, value: 125 },
+      { tag: 'ST1.FI-100', time: t, value: 120 },
+    ]);
+    expect(later.json()).toMatchObject({
+      accepted: 0,
+      stored: 0,
+      duplicates: 1,
+      items: ['conflict', 'duplicate'],
+      conflicts: [{ index: 0, value: 125, storedValue: 120 }],
+    });
+    expect(await stored('ST1.FI-100')).toEqual([['2026-02-02T00:00:00.000Z', 120]]);
+  });
+
+  it('counts a batch of new and already stored items exactly', async () => {
+    const res = await push([
+      { tag: 'ST1.FI-100', time: t, value: 120 },
+      { tag: 'ST1.FI-100', time: '2026-02-02T00:00:01Z', value: 122 },
+    ]);
+    // The store counts both kinds without naming its duplicates (INTERFACES.md A): each item says so.
+    expect(res.json()).toMatchObject({
+      accepted: 1,
+      stored: 1,
+      duplicates: 1,
+      items: ['stored-or-duplicate', 'stored-or-duplicate'],
+    });
+  });
+});

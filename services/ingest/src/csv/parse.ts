@@ -7,7 +7,6 @@
  * File-level problems (empty, no usable header) throw INGEST_FILE_UNREADABLE.
  */
 import type { Readable } from 'node:stream';
-import { type TimeWindow, timeWindowOf } from '../time-window.js';
 import type { TagLookup } from '../types.js';
 import type { CsvFormat } from './format.js';
 import { checkUnitsRow, longLayout, readHeader, wideLayout } from './header.js';
@@ -27,9 +26,7 @@ export interface ParseCsvOptions {
    * time): a last line without a line end is quarantined as incomplete instead of stored.
    */
   readonly lastLineMayBeCut?: boolean;
-  /** Plausible sample times (default 1970-01-01 to now + 1 day); others are quarantined. */
-  readonly timeWindow?: Partial<TimeWindow>;
-  /** Clock [ms] for the time window. */
+  /** Clock [ms] for the time window (format.timeWindow). */
   readonly now?: () => number;
 }
 
@@ -42,7 +39,7 @@ export async function parseCsv(
   options: ParseCsvOptions = {},
 ): Promise<CsvSummary> {
   const out = new CsvOutput(handlers, options.batchSize ?? 20_000);
-  const times = new CsvTimeReader(format, timeWindowOf(options.timeWindow), (options.now ?? Date.now)());
+  const times = new CsvTimeReader(format, format.timeWindow, (options.now ?? Date.now)());
   const records = new RecordReader(input, format, out);
   const header = await readHeader(records, format);
   const ctx = { records, format, header, times, out, lastLineMayBeCut: options.lastLineMayBeCut ?? false };
