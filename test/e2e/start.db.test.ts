@@ -90,8 +90,14 @@ describe('isentrope start on the embedded database (no DATABASE_URL)', () => {
     expect(push.status).toBe(200);
     expect(await push.json()).toEqual({
       accepted: 0,
+      stored: 0,
+      duplicates: 0,
+      conflicts: [],
       rejected: [{ index: 0, field: 'tag', problem: 'unknown tag "NO.SUCH-TAG"' }],
+      items: ['rejected'],
     });
+    // The push route counts against its own limit (ISENTROPE_INGEST_RATE_LIMIT), not the API's.
+    expect(push.headers.get('x-ratelimit-limit')).toBe('3000');
     const wrong = await fetch(`http://127.0.0.1:${port}/api/ingest/samples`, {
       method: 'POST',
       headers: { authorization: 'Bearer not-the-token', 'content-type': 'application/json' },

@@ -34,6 +34,14 @@ describe('loadConfig', () => {
     expect(message).toContain('LOG_LEVEL="loud": must be one of fatal, error');
   });
 
+  it("reads the push route's own rate limit (issue 18 item 10), 3,000 a minute by default, 0 = none", () => {
+    expect(loadConfig({}).ingestRateLimitPerMinute).toBe(3000);
+    expect(loadConfig({ ISENTROPE_INGEST_RATE_LIMIT: '0' }).ingestRateLimitPerMinute).toBe(0);
+    expect(() => loadConfig({ ISENTROPE_INGEST_RATE_LIMIT: '-1' })).toThrow(
+      /ISENTROPE_INGEST_RATE_LIMIT="-1"/,
+    );
+  });
+
   it('refuses a port out of range', () => {
     expect(() => loadConfig({ PORT: '70000' })).toThrow(/PORT="70000": must be between 0 and 65535/);
   });

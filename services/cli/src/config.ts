@@ -82,6 +82,11 @@ export const environmentSchema = z.object({
     .default(365),
   ISENTROPE_JOBS: onOff.default(true),
   ISENTROPE_INGEST_TOKEN: z.string().min(24, 'must be at least 24 characters (a random secret)').optional(),
+  ISENTROPE_INGEST_RATE_LIMIT: z.coerce
+    .number({ message: 'must be a whole number of requests per minute (0 = no limit)' })
+    .int('must be a whole number of requests per minute (0 = no limit)')
+    .min(0, 'must not be negative')
+    .default(3000),
   ISENTROPE_ADMIN_PASSWORD: z.string().min(12, 'must be at least 12 characters').optional(),
   ISENTROPE_ANONYMOUS_ROLE: z.enum(['none', 'viewer'], { message: 'must be none or viewer' }).optional(),
   ISENTROPE_PUBLIC_HOST: publicHosts.optional(),
@@ -129,6 +134,8 @@ export interface Config {
   readonly runJobs: boolean;
   /** Bearer token HTTP bridges present to POST /api/ingest/samples; unset: HTTP push is off. */
   readonly ingestToken: string | undefined;
+  /** Push requests per minute and client address on /api/ingest/samples, apart from the API's limit; 0: none. */
+  readonly ingestRateLimitPerMinute: number;
   /** Password of the first admin user (created when there are no users). */
   readonly adminPassword: string | undefined;
   /** Role of a visitor who has not signed in; undefined: the default (see anonymousRoleFor). */
@@ -213,6 +220,7 @@ export function loadConfig(env: NodeJS.ProcessEnv, options: { stdoutIsTty?: bool
     demoDays: e.ISENTROPE_DEMO_DAYS,
     runJobs: e.ISENTROPE_JOBS,
     ingestToken: e.ISENTROPE_INGEST_TOKEN,
+    ingestRateLimitPerMinute: e.ISENTROPE_INGEST_RATE_LIMIT,
     adminPassword: e.ISENTROPE_ADMIN_PASSWORD,
     anonymousRole: e.ISENTROPE_ANONYMOUS_ROLE,
     publicHosts: Object.freeze(e.ISENTROPE_PUBLIC_HOST ?? []),

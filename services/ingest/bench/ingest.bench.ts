@@ -30,6 +30,7 @@ import { OpcuaSource } from '../src/opcua.js';
 import { loadTagLookup } from '../src/tags.js';
 import { startPlantServer } from '../src/testing/opcua-plant.js';
 import { seedTags } from '../src/testing/seed.js';
+import type { TagLookup } from '../src/types.js';
 
 const TAGS = 10;
 const names = Array.from({ length: TAGS }, (_, i) => `B.T${String(i).padStart(2, '0')}`);
@@ -141,6 +142,152 @@ function percentile(sorted: Float64Array, p: number): number {
   return sorted[Math.min(sorted.length - 1, Math.floor(p * sorted.length))] ?? Number.NaN;
 }
 
+/** 1. CSV -> committed rows, and psql \copy of the same samples. */
+async function csvBenches(
+  pool: pg.Pool,
+  url: string,
+  work: string,
+  ids: Map<string, number>,
+  tags: TagLookup,
+): Promise<void> {
+  const n = env('INGEST_BENCH_SAMPLES', 5_000_000);
+  const csv = join(work, 'bench.csv');
+  const samples = await writeWideCsv(csv, { samples: n });
+  const size = (await stat(csv)).size;
+
+  let t = performance.now();
+  await parseCsv(createReadStream(csv, { highWaterMark: 1 << 16 }), csvFormatSchema.parse({}), tags, {
+    samples: async () => {},
+    quarantine: async () => {},
+  });
+  out('ingest.csv.parse_only', samples / ((performance.now() - t) / 1000), 'samples/s', { samples });
+
+  t = performance.now();
+  const r = await ingestCsvFile(csv, {
+    pool,
+    source: 'bench',
+    tags,
+    processedDir: null,
+    rejectedDir: null,
+  });
+  const secs = (performance.now() - t) / 1000;
+  if (r.status !== 'done' || r.summary.samples !== samples) throw new Error(`bench ingest: ${r.status}`);
+  const stored = await pool.query<{ n: number }>('SELECT count(*)::int AS n FROM samples');
+  out('ingest.csv.committed', samples / secs, 'rows/s', {
+    samples,
+    stored: stored.rows[0]?.n,
+    fileMB: size / 1e6,
+    seconds: secs,
+  });
+
+  const copyFile = join(work, 'bench.copy');
+  await writeCopyFile(
+    copyFile,
+    samples,
+    names.map((x) => ids.get(x)!),
+  );
+  await pool.query(
+    'CREATE TABLE bench_copy (tag_id integer, time timestamptz, value double precision, quality smallint, PRIMARY KEY (tag_id, time))',
+  );
+  t = performance.now();
+  await new Promise<void>((resolve, reject) => {
+    const p = spawn(
+      '/usr/lib/postgresql/15/bin/psql',
+      [url!, '-q', '-c', `\\copy bench_copy FROM '${copyFile}'`],
+      { stdio: 'inherit' },
+    );
+    p.on('error', reject);
+    p.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`psql exited ${code}`))));
+  });
+  out('ingest.psql_copy', samples / ((performance.now() - t) / 1000), 'rows/s', {
+    samples,
+    table: 'plain, same primary key',
+  });
+  await rm(copyFile);
+  await rm(csv);
+  await rssBenches(url, work);
+}
+
+/** 2. Peak RSS while ingesting a large CSV. */
+async function rssBenches(url: string, work: string): Promise<void> {
+  const mb = env('INGEST_BENCH_RSS_MB', 250);
+  const big = join(work, 'big.csv');
+  const bigSamples = await writeWideCsv(big, { bytes: mb * 1e6 });
+  const parseRss = await runChild(['--rss', 'parse', big]);
+  out('ingest.csv.parse_max_rss', parseRss.maxRssMB ?? Number.NaN, 'MB', {
+    fileMB: mb,
+    samples: bigSamples,
+    seconds: parseRss.seconds,
+  });
+  const dbRss = await runChild(['--rss', 'db', big, url, String(env('INGEST_BENCH_RSS_SECONDS', 60))]);
+  out('ingest.csv.db_max_rss', dbRss.maxRssMB ?? Number.NaN, 'MB', {
+    fileMB: mb,
+    samplesDone: dbRss.samples,
+    seconds: dbRss.seconds,
+  });
+  await rm(big);
+}
+
+/** 3. OPC UA with many monitored items. */
+async function opcuaBench(pool: pg.Pool, work: string): Promise<void> {
+  const items = env('INGEST_BENCH_OPCUA_ITEMS', 10_000);
+  const seconds = env('INGEST_BENCH_OPCUA_SECONDS', 30);
+  const opcNames = Array.from({ length: items }, (_, i) => `O.${i}`);
+  const opcIds = await seedTags(
+    pool,
+    opcNames.map((name) => ({ name, unit: 'bara' })),
+    'bench',
+  );
+  const pki = join(tmpdir(), 'isentrope-ingest-test-pki');
+  const server = await startPlantServer({ names: opcNames, pkiDir: pki, record: false });
+  const delays = new Float64Array(items * (seconds + 10));
+  let count = 0;
+  let committed = 0;
+  const metrics = new SourceMetrics('bench', 'opcua');
+  const logger = pino({ level: 'silent' });
+  const forwarder = new Forwarder({
+    sink: new CommittedSink(pool),
+    buffer: await DiskBuffer.open({ dir: join(work, 'buffer') }),
+    metrics,
+    logger,
+    onCommitted: (batch) => {
+      const now = Date.now();
+      committed += batch.length;
+      for (const s of batch) if (count < delays.length) delays[count++] = now - s.time.getTime();
+    },
+  });
+  const source = new OpcuaSource(
+    {
+      id: 'bench',
+      endpoint: server.endpoint,
+      items: opcNames.map((x) => ({ tagId: opcIds.get(x)!, nodeId: `ns=1;s=${x}` })),
+      samplingIntervalMs: 1000,
+      publishingIntervalMs: 1000,
+      pkiDir: join(pki, 'client'),
+      acceptUnknownCertificates: true,
+    },
+    (s) => forwarder.add(s),
+    metrics,
+    logger,
+  );
+  await source.start();
+  server.play(1000);
+  await new Promise((res) => setTimeout(res, 5000)); // warm-up
+  const c0 = committed;
+  count = 0;
+  const t0 = performance.now();
+  await new Promise((res) => setTimeout(res, seconds * 1000));
+  const rate = (committed - c0) / ((performance.now() - t0) / 1000);
+  server.pause();
+  const sorted = delays.slice(0, count).sort();
+  out('ingest.opcua.sustained', rate, 'samples/s', { items, offered: items, seconds });
+  out('ingest.opcua.delay_p50', percentile(sorted, 0.5), 'ms', { items });
+  out('ingest.opcua.delay_p99', percentile(sorted, 0.99), 'ms', { items });
+  await source.stop();
+  await forwarder.stop();
+  await server.shutdown();
+}
+
 async function main(): Promise<void> {
   const work = await mkdtemp(join(tmpdir(), 'ingest-bench-'));
   let stopPg: (() => Promise<void>) | undefined;
@@ -166,140 +313,8 @@ async function main(): Promise<void> {
     const tags = await loadTagLookup(pool, 'bench');
 
     const only = process.env.INGEST_BENCH_ONLY;
-    if (only !== 'opcua') {
-      // 1. CSV -> committed rows, and psql \copy of the same samples.
-      const n = env('INGEST_BENCH_SAMPLES', 5_000_000);
-      const csv = join(work, 'bench.csv');
-      const samples = await writeWideCsv(csv, { samples: n });
-      const size = (await stat(csv)).size;
-
-      let t = performance.now();
-      await parseCsv(createReadStream(csv, { highWaterMark: 1 << 16 }), csvFormatSchema.parse({}), tags, {
-        samples: async () => {},
-        quarantine: async () => {},
-      });
-      out('ingest.csv.parse_only', samples / ((performance.now() - t) / 1000), 'samples/s', { samples });
-
-      t = performance.now();
-      const r = await ingestCsvFile(csv, {
-        pool,
-        source: 'bench',
-        tags,
-        processedDir: null,
-        rejectedDir: null,
-      });
-      const secs = (performance.now() - t) / 1000;
-      if (r.status !== 'done' || r.summary.samples !== samples) throw new Error(`bench ingest: ${r.status}`);
-      const stored = await pool.query<{ n: number }>('SELECT count(*)::int AS n FROM samples');
-      out('ingest.csv.committed', samples / secs, 'rows/s', {
-        samples,
-        stored: stored.rows[0]?.n,
-        fileMB: size / 1e6,
-        seconds: secs,
-      });
-
-      const copyFile = join(work, 'bench.copy');
-      await writeCopyFile(
-        copyFile,
-        samples,
-        names.map((x) => ids.get(x)!),
-      );
-      await pool.query(
-        'CREATE TABLE bench_copy (tag_id integer, time timestamptz, value double precision, quality smallint, PRIMARY KEY (tag_id, time))',
-      );
-      t = performance.now();
-      await new Promise<void>((resolve, reject) => {
-        const p = spawn(
-          '/usr/lib/postgresql/15/bin/psql',
-          [url!, '-q', '-c', `\\copy bench_copy FROM '${copyFile}'`],
-          { stdio: 'inherit' },
-        );
-        p.on('error', reject);
-        p.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`psql exited ${code}`))));
-      });
-      out('ingest.psql_copy', samples / ((performance.now() - t) / 1000), 'rows/s', {
-        samples,
-        table: 'plain, same primary key',
-      });
-      await rm(copyFile);
-      await rm(csv);
-
-      // 2. Peak RSS while ingesting a large CSV.
-      const mb = env('INGEST_BENCH_RSS_MB', 250);
-      const big = join(work, 'big.csv');
-      const bigSamples = await writeWideCsv(big, { bytes: mb * 1e6 });
-      const parseRss = await runChild(['--rss', 'parse', big]);
-      out('ingest.csv.parse_max_rss', parseRss.maxRssMB ?? Number.NaN, 'MB', {
-        fileMB: mb,
-        samples: bigSamples,
-        seconds: parseRss.seconds,
-      });
-      const dbRss = await runChild(['--rss', 'db', big, url, String(env('INGEST_BENCH_RSS_SECONDS', 60))]);
-      out('ingest.csv.db_max_rss', dbRss.maxRssMB ?? Number.NaN, 'MB', {
-        fileMB: mb,
-        samplesDone: dbRss.samples,
-        seconds: dbRss.seconds,
-      });
-      await rm(big);
-    }
-
-    // 3. OPC UA with many monitored items.
-    const items = env('INGEST_BENCH_OPCUA_ITEMS', 10_000);
-    const seconds = env('INGEST_BENCH_OPCUA_SECONDS', 30);
-    const opcNames = Array.from({ length: items }, (_, i) => `O.${i}`);
-    const opcIds = await seedTags(
-      pool,
-      opcNames.map((name) => ({ name, unit: 'bara' })),
-      'bench',
-    );
-    const pki = join(tmpdir(), 'isentrope-ingest-test-pki');
-    const server = await startPlantServer({ names: opcNames, pkiDir: pki, record: false });
-    const delays = new Float64Array(items * (seconds + 10));
-    let count = 0;
-    let committed = 0;
-    const metrics = new SourceMetrics('bench', 'opcua');
-    const logger = pino({ level: 'silent' });
-    const forwarder = new Forwarder({
-      sink: new CommittedSink(pool),
-      buffer: await DiskBuffer.open({ dir: join(work, 'buffer') }),
-      metrics,
-      logger,
-      onCommitted: (batch) => {
-        const now = Date.now();
-        committed += batch.length;
-        for (const s of batch) if (count < delays.length) delays[count++] = now - s.time.getTime();
-      },
-    });
-    const source = new OpcuaSource(
-      {
-        id: 'bench',
-        endpoint: server.endpoint,
-        items: opcNames.map((x) => ({ tagId: opcIds.get(x)!, nodeId: `ns=1;s=${x}` })),
-        samplingIntervalMs: 1000,
-        publishingIntervalMs: 1000,
-        pkiDir: join(pki, 'client'),
-        acceptUnknownCertificates: true,
-      },
-      (s) => forwarder.add(s),
-      metrics,
-      logger,
-    );
-    await source.start();
-    server.play(1000);
-    await new Promise((res) => setTimeout(res, 5000)); // warm-up
-    const c0 = committed;
-    count = 0;
-    const t0 = performance.now();
-    await new Promise((res) => setTimeout(res, seconds * 1000));
-    const rate = (committed - c0) / ((performance.now() - t0) / 1000);
-    server.pause();
-    const sorted = delays.slice(0, count).sort();
-    out('ingest.opcua.sustained', rate, 'samples/s', { items, offered: items, seconds });
-    out('ingest.opcua.delay_p50', percentile(sorted, 0.5), 'ms', { items });
-    out('ingest.opcua.delay_p99', percentile(sorted, 0.99), 'ms', { items });
-    await source.stop();
-    await forwarder.stop();
-    await server.shutdown();
+    if (only !== 'opcua') await csvBenches(pool, url, work, ids, tags);
+    await opcuaBench(pool, work);
     await pool.end();
   } finally {
     await stopPg?.();

@@ -28,6 +28,15 @@ export const INGEST_ERRORS = {
     meaning: 'HTTP push body is not a JSON array of samples, or too large (400/413).',
     status: 400,
   },
+  INGEST_RATE_LIMITED: {
+    meaning:
+      "HTTP push beyond the route's own rate limit (429); the Retry-After header says when to send again.",
+    status: 429,
+  },
+  INGEST_INTERNAL: {
+    meaning: 'HTTP push failed for a reason of ours (500); logged with its cause.',
+    status: 500,
+  },
 } as const satisfies ErrorCatalog;
 
 export type IngestErrorCode = keyof typeof INGEST_ERRORS;

@@ -5,13 +5,14 @@
  * oldest first with backoff. New samples keep going to the buffer until it is empty, so
  * the store receives them in the order they came.
  */
-import { writeSampleBatch } from '@isentrope/store';
+import { type SampleRow, writeSampleBatch } from '@isentrope/store';
 import type pg from 'pg';
 import type { Logger } from 'pino';
 import type { DiskBuffer } from './buffer.js';
 import { errorMessage } from './errors.js';
 import type { SourceMetrics } from './metrics.js';
-import type { Sample, SampleSink } from './types.js';
+import { groupsBySpan } from './span.js';
+import type { CommittedSampleSink, Sample, SampleConflict, SampleSink, WriteReport } from './types.js';
 
 /**
  * Keeps a lost database connection from crashing the process: pg emits 'error' on a
@@ -28,33 +29,35 @@ export function guardPool(pool: pg.Pool): pg.Pool {
 
 /**
  * A sink whose write() resolves only once the rows are committed, and that keeps nothing
- * in memory when it fails (the store's writeSampleBatch per chunk, sorted and
- * de-duplicated as it expects). Used by store-and-forward and HTTP push.
+ * in memory when it fails (the store's writeSampleBatch per chunk, each chunk within a bounded
+ * span of time, see span.ts). Used by store-and-forward and HTTP push.
  */
-export class CommittedSink implements SampleSink {
+export class CommittedSink implements CommittedSampleSink {
   constructor(
     private readonly pool: pg.Pool,
     private readonly chunk = 20_000,
   ) {}
 
-  async write(samples: readonly Sample[]): Promise<void> {
-    const rows = samples.map((s) => ({
-      tagId: s.tagId,
-      time: s.time.getTime(),
-      value: s.value,
-      quality: s.quality,
-    }));
-    rows.sort((a, b) => a.tagId - b.tagId || a.time - b.time);
-    const unique = rows.filter((r, i) => {
-      const p = rows[i - 1];
-      return p === undefined || p.tagId !== r.tagId || p.time !== r.time;
-    });
-    for (let i = 0; i < unique.length; i += this.chunk) {
-      await writeSampleBatch(this.pool, unique.slice(i, i + this.chunk));
+  async write(samples: readonly Sample[]): Promise<WriteReport> {
+    let stored = 0;
+    let duplicates = 0;
+    const conflicts: SampleConflict[] = [];
+    for (const group of groupsBySpan(samples)) {
+      for (let i = 0; i < group.length; i += this.chunk) {
+        const outcome = await writeSampleBatch(this.pool, group.slice(i, i + this.chunk).map(toRow));
+        stored += outcome.stored;
+        duplicates += outcome.duplicates;
+        conflicts.push(...outcome.conflicts);
+      }
     }
+    return { stored, duplicates, conflicts };
   }
 
   async flush(): Promise<void> {}
+}
+
+function toRow(s: Sample): SampleRow {
+  return { tagId: s.tagId, time: s.time.getTime(), value: s.value, quality: s.quality, ref: s.ref };
 }
 
 export interface ForwarderOptions {

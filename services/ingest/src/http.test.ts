@@ -2,25 +2,8 @@ import Fastify from 'fastify';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { httpPushRoutes, sha256Hex, tokenMatches } from './http.js';
 import { renderIngestMetrics, SourceMetrics } from './metrics.js';
-import { type Sample, type SampleSink, tagLookupFrom } from './types.js';
-
-/** Records what it is given; can be told to fail like an unreachable database. */
-class RecordingSink implements SampleSink {
-  readonly stored: Sample[] = [];
-  failing = false;
-  private pending: Sample[] = [];
-  async write(samples: readonly Sample[]) {
-    this.pending.push(...samples);
-  }
-  async flush() {
-    if (this.failing) {
-      this.pending = [];
-      throw new Error('connection refused');
-    }
-    this.stored.push(...this.pending);
-    this.pending = [];
-  }
-}
+import { RecordingSink } from './testing/recording-sink.js';
+import { tagLookupFrom } from './types.js';
 
 const TOKEN = 'bridge-secret-0123456789';
 const sink = new RecordingSink();

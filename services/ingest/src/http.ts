@@ -1,18 +1,37 @@
 /**
  * HTTP push for bridges: POST /ingest/samples with a JSON array of
- * {tag, time, value, quality?}. Each item is checked on its own; good items are stored
- * (committed before the answer), bad ones come back with index, field and problem.
+ * {tag, time, value, quality?}. The bearer token is checked before the body is read; the
+ * route has its own rate limit (when the app registers @fastify/rate-limit). Each item is
+ * checked on its own (push/items.ts) and answered with its own status (push/outcome.ts):
+ * stored, duplicate, conflict (the first stored value is kept) or rejected with a reason.
+ * Stored items are committed before the answer.
  */
 import { createHash, timingSafeEqual } from 'node:crypto';
-import type { FastifyInstance, FastifyPluginAsync } from 'fastify';
-import { z } from 'zod';
-import { errorMessage } from './errors.js';
+// The route's config.rateLimit is typed by @fastify/rate-limit's declarations.
+import type {} from '@fastify/rate-limit';
+import type { FastifyInstance, FastifyPluginAsync, FastifyReply, FastifyRequest } from 'fastify';
+import { errorMessage, IngestError } from './errors.js';
 import type { SourceMetrics } from './metrics.js';
-import { QUALITY, type Sample, type SampleSink, type TagLookup } from './types.js';
-import { isStorableValue, tooLargeReason } from './values.js';
+import { type PushRejection, readPushItems } from './push/items.js';
+import { type PushConflict, type PushItemStatus, storePushItems } from './push/outcome.js';
+import { type TimeWindow, timeWindowOf } from './time-window.js';
+import type { CommittedSampleSink, TagLookup } from './types.js';
+
+export type { PushRejection } from './push/items.js';
+export { pushItemSchema } from './push/items.js';
+export type { PushConflict, PushItemStatus } from './push/outcome.js';
+
+export interface PushRateLimit {
+  /** Requests per client address and window. */
+  readonly max: number;
+  readonly timeWindowMs: number;
+}
+
+/** 3,000 requests a minute per address: 50 a second, each of up to maxItems items (common practice, no source). */
+export const DEFAULT_PUSH_RATE_LIMIT: PushRateLimit = { max: 3000, timeWindowMs: 60_000 };
 
 export interface HttpPushOptions {
-  readonly sink: SampleSink;
+  readonly sink: CommittedSampleSink;
   /** Tag names to ids; a function is called per request (so a reloaded plant is seen). */
   readonly tags: TagLookup | (() => TagLookup | Promise<TagLookup>);
   /** SHA-256 (hex) of the bearer token the bridge must present (INGEST_TOKEN). */
@@ -21,35 +40,27 @@ export interface HttpPushOptions {
   readonly maxItems?: number;
   /** Request body limit [bytes] (default 16 MiB). */
   readonly bodyLimit?: number;
+  /** Plausible sample times (default 1970-01-01 to now + 1 day). */
+  readonly timeWindow?: Partial<TimeWindow>;
+  /** This route's own limit, apart from the app's (default DEFAULT_PUSH_RATE_LIMIT); false: none. */
+  readonly rateLimit?: PushRateLimit | false;
+  /** Clock [ms] for the time window; tests may fix it. */
+  readonly now?: () => number;
   readonly metrics?: SourceMetrics;
 }
 
-export interface PushRejection {
-  readonly index: number;
-  readonly field: string;
-  readonly problem: string;
-}
-
 export interface PushAnswer {
+  /** Items new to the store (the same as stored; kept for bridges written against the first answer). */
   readonly accepted: number;
+  readonly stored: number;
+  /** Items identical to a sample already stored (or sent earlier in the batch). */
+  readonly duplicates: number;
+  /** Items whose tag and time already hold another value or quality: not stored, the first value kept. */
+  readonly conflicts: readonly PushConflict[];
   readonly rejected: readonly PushRejection[];
+  /** One status per item, in the order sent. */
+  readonly items: readonly PushItemStatus[];
 }
-
-export const pushItemSchema = z.strictObject({
-  tag: z.string().min(1).max(200),
-  /** ISO 8601 with an offset or Z, or epoch milliseconds. */
-  time: z.union(
-    [z.iso.datetime({ offset: true, precision: undefined }), z.number().int().min(0).max(8.64e15)],
-    {
-      error: 'expected ISO 8601 with an offset ("2026-03-01T10:00:00Z") or epoch milliseconds',
-    },
-  ),
-  value: z
-    .number({ error: 'expected a finite number' })
-    .refine(isStorableValue, { error: (issue) => tooLargeReason(String(issue.input)) }),
-  /** OPC DA quality code 0..255 (192 good, 64 uncertain, 0 bad); default good. */
-  quality: z.number().int().min(0).max(255).optional(),
-});
 
 export function sha256Hex(text: string): string {
   return createHash('sha256').update(text, 'utf8').digest('hex');
@@ -62,72 +73,87 @@ export function tokenMatches(presented: string, expectedSha256: string): boolean
   return b.length === a.length && timingSafeEqual(a, b);
 }
 
+function bad(reply: FastifyReply, status: number, code: string, message: string, extra: object = {}) {
+  return reply.code(status).send({ code, message, ...extra });
+}
+
+/** onRequest: runs before the body is read, so a caller without the token costs no parsing. */
+function bearerCheck(tokenSha256: string) {
+  return async (request: FastifyRequest, reply: FastifyReply): Promise<void> => {
+    const m = /^Bearer\s+(\S+)$/i.exec(request.headers.authorization ?? '');
+    if (m === null || !tokenMatches(m[1]!, tokenSha256))
+      await bad(reply, 401, 'INGEST_UNAUTHORIZED', 'a valid bearer token is required');
+  };
+}
+
+/** The route's own @fastify/rate-limit settings: its own counter, and an answer saying when to retry. */
+function rateLimitConfig(limit: PushRateLimit | false) {
+  if (limit === false) return false;
+  return {
+    max: limit.max,
+    timeWindow: limit.timeWindowMs,
+    errorResponseBuilder: (_request: FastifyRequest, context: { max: number; ttl: number }) =>
+      new IngestError(
+        'INGEST_RATE_LIMITED',
+        `more than ${context.max} push requests in ${limit.timeWindowMs / 1000} s from this address; retry after ${Math.ceil(context.ttl / 1000)} s (the Retry-After header)`,
+        { retryAfterSeconds: Math.ceil(context.ttl / 1000), max: context.max },
+      ),
+  };
+}
+
+/** Errors of this route's scope, answered in its own shape ({code, message}); every 5xx logged with its cause. */
+function pushErrors(error: unknown, request: FastifyRequest, reply: FastifyReply) {
+  if (error instanceof IngestError && error.code === 'INGEST_RATE_LIMITED')
+    return bad(reply, 429, error.code, error.message, error.details);
+  const code = (error as { code?: unknown }).code;
+  if (code === 'FST_ERR_CTP_BODY_TOO_LARGE')
+    return bad(reply, 413, 'INGEST_BAD_BATCH', 'the body is larger than the route allows; send fewer items');
+  const status = (error as { statusCode?: unknown }).statusCode;
+  if (typeof status === 'number' && status >= 400 && status < 500)
+    return bad(reply, status, 'INGEST_BAD_BATCH', `the body cannot be read: ${errorMessage(error)}`);
+  request.log.error({ err: error }, 'HTTP push failed');
+  return bad(reply, 500, 'INGEST_INTERNAL', `the push could not be handled (request ${request.id})`);
+}
+
 export const httpPushRoutes: FastifyPluginAsync<HttpPushOptions> = async (app: FastifyInstance, options) => {
   const maxItems = options.maxItems ?? 10_000;
+  const window = timeWindowOf(options.timeWindow);
+  const now = options.now ?? Date.now;
+  app.setErrorHandler(pushErrors);
   app.post(
     '/ingest/samples',
-    { bodyLimit: options.bodyLimit ?? 16 * 1024 * 1024 },
+    {
+      bodyLimit: options.bodyLimit ?? 16 * 1024 * 1024,
+      onRequest: bearerCheck(options.tokenSha256),
+      config: { rateLimit: rateLimitConfig(options.rateLimit ?? DEFAULT_PUSH_RATE_LIMIT) },
+    },
     async (request, reply) => {
-      const header = request.headers.authorization ?? '';
-      const m = /^Bearer\s+(\S+)$/i.exec(header);
-      if (m === null || !tokenMatches(m[1]!, options.tokenSha256)) {
-        return reply
-          .code(401)
-          .send({ code: 'INGEST_UNAUTHORIZED', message: 'a valid bearer token is required' });
-      }
       const body: unknown = request.body;
-      if (!Array.isArray(body)) {
-        return reply
-          .code(400)
-          .send({ code: 'INGEST_BAD_BATCH', message: 'the body must be a JSON array of samples' });
-      }
+      if (!Array.isArray(body))
+        return bad(reply, 400, 'INGEST_BAD_BATCH', 'the body must be a JSON array of samples');
       if (body.length > maxItems) {
-        return reply.code(413).send({
-          code: 'INGEST_BAD_BATCH',
-          message: `at most ${maxItems} items per request; got ${body.length}`,
-          maxItems,
-        });
+        const message = `at most ${maxItems} items per request; got ${body.length}`;
+        return bad(reply, 413, 'INGEST_BAD_BATCH', message, { maxItems });
       }
       const tags = typeof options.tags === 'function' ? await options.tags() : options.tags;
-      const rejected: PushRejection[] = [];
-      const samples: Sample[] = [];
-      body.forEach((item: unknown, index) => {
-        const parsed = pushItemSchema.safeParse(item);
-        if (!parsed.success) {
-          for (const issue of parsed.error.issues) {
-            rejected.push({
-              index,
-              field: issue.path.length === 0 ? '(item)' : issue.path.join('.'),
-              problem: issue.message,
-            });
-          }
-          return;
-        }
-        const it = parsed.data;
-        const tag = tags.get(it.tag);
-        if (tag === undefined) {
-          rejected.push({ index, field: 'tag', problem: `unknown tag ${JSON.stringify(it.tag)}` });
-          return;
-        }
-        const time = new Date(typeof it.time === 'number' ? it.time : Date.parse(it.time));
-        samples.push({ tagId: tag.id, time, value: it.value, quality: it.quality ?? QUALITY.good });
-      });
-      if (samples.length > 0) {
-        try {
-          await options.sink.write(samples);
-          await options.sink.flush();
-        } catch (error) {
-          options.metrics?.error(errorMessage(error));
-          // Nothing is acknowledged: the bridge sends the batch again, and the store keeps each (tag, time) once.
-          return reply.code(503).send({
-            code: 'INGEST_WRITE_FAILED',
-            message: 'the samples could not be stored; send the batch again',
-          });
-        }
-        options.metrics?.samples(samples);
+      const { samples, rejected } = readPushItems(body, tags, window, now());
+      let outcome: Awaited<ReturnType<typeof storePushItems>>;
+      try {
+        outcome = await storePushItems(options.sink, body.length, samples, rejected);
+      } catch (error) {
+        options.metrics?.error(errorMessage(error));
+        request.log.error({ err: error, samples: samples.length }, 'HTTP push: storing the batch failed');
+        // Nothing is acknowledged: the bridge sends the batch again, and the store keeps each (tag, time) once.
+        return bad(
+          reply,
+          503,
+          'INGEST_WRITE_FAILED',
+          'the samples could not be stored; send the batch again',
+        );
       }
+      if (samples.length > 0) options.metrics?.samples(samples);
       options.metrics?.quarantined(rejected.length);
-      const answer: PushAnswer = { accepted: samples.length, rejected };
+      const answer: PushAnswer = { accepted: outcome.stored, ...outcome, rejected };
       return reply.code(200).send(answer);
     },
   );

@@ -1,4 +1,4 @@
-import { appendFile, mkdir, mkdtemp, readdir, rename, rm, writeFile } from 'node:fs/promises';
+import { appendFile, mkdir, mkdtemp, readdir, rename, rm, utimes, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parsePlantFile } from '@isentrope/plant';
@@ -64,6 +64,55 @@ describe('CSV drop folder', () => {
   });
 });
 
+// Issue 18 item 13: a file whose last line has no line end was read while its writer paused mid-line ("90" of "90.4").
+describe('CSV drop folder: a last line without a line end', () => {
+  it('holds the file back until it grows or settles; a file renamed from *.part is read at once', async () => {
+    const folder = join(dir, 'drop-c');
+    await mkdir(folder);
+    const watcher = new CsvWatcher({
+      pool: db.pool,
+      source: 'drop-c',
+      tags: await loadTagLookup(db.pool, 'demo'),
+      folder,
+      metrics: new SourceMetrics('drop-c', 'csv'),
+      logger,
+    });
+    const values = async () =>
+      (
+        await db.pool.query<{ value: number }>(
+          `SELECT s.value FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.FI-100' ORDER BY s.time`,
+        )
+      ).rows.map((r) => r.value);
+    const file = join(folder, 'cut.csv');
+    await writeFile(file, 'time,ST1.FI-100\n2026-02-05T00:00:00Z,89.9\n2026-02-05T00:00:01Z,90');
+    await watcher.poll();
+    await watcher.poll(); // held still, but the last line may be cut: held back
+    await watcher.poll();
+    expect(await values()).toEqual([]);
+    await appendFile(file, '.4\n'); // the writer goes on
+    await watcher.poll();
+    await watcher.poll();
+    expect(await values()).toEqual([89.9, 90.4]);
+
+    // Unchanged for longer than the settling time: read, last line included.
+    const old = join(folder, 'old.csv');
+    await writeFile(old, 'time,ST1.FI-100\n2026-02-05T00:00:02Z,91');
+    const past = new Date(Date.now() - 10 * 60_000);
+    await utimes(old, past, past);
+    await watcher.poll();
+    await watcher.poll();
+    expect(await values()).toEqual([89.9, 90.4, 91]);
+
+    // Written as *.part and renamed: complete, read without waiting.
+    await writeFile(join(folder, 'new.csv.part'), 'time,ST1.FI-100\n2026-02-05T00:00:03Z,92');
+    await watcher.poll();
+    await rename(join(folder, 'new.csv.part'), join(folder, 'new.csv'));
+    await watcher.poll();
+    await watcher.poll();
+    expect(await values()).toEqual([89.9, 90.4, 91, 92]);
+  });
+});
+
 describe('startIngest', () => {
   it('runs the plant file CSV source, reports health and metrics, and serves HTTP push with its sink', async () => {
     const folder = join(dir, 'drop-b');
@@ -124,7 +173,14 @@ describe('startIngest', () => {
         headers: { authorization: 'Bearer t0ken' },
         payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
       });
-      expect(res.json()).toEqual({ accepted: 1, rejected: [] });
+      expect(res.json()).toEqual({
+        accepted: 1,
+        stored: 1,
+        duplicates: 0,
+        conflicts: [],
+        rejected: [],
+        items: ['stored'],
+      });
       const again = await app.inject({
         method: 'POST',
         url: '/ingest/samples',
@@ -132,6 +188,7 @@ describe('startIngest', () => {
         payload: [{ tag: 'ST1.PI-100', time: '2026-02-03T09:00:00Z', value: 40 }],
       });
       expect(again.statusCode).toBe(200);
+      expect(again.json()).toMatchObject({ accepted: 0, stored: 0, duplicates: 1, items: ['duplicate'] });
       const pushed = await db.pool.query<{ n: number }>(
         `SELECT count(*)::int AS n FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.PI-100' AND s.time = '2026-02-03T09:00:00Z'`,
       );

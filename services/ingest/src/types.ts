@@ -15,6 +15,8 @@ export interface Sample {
   readonly value: number;
   /** OPC DA quality code, see QUALITY. */
   readonly quality: number;
+  /** The caller's reference (CSV: line number; push: item index), echoed in a conflict; never stored. */
+  readonly ref?: number;
 }
 
 /**
@@ -23,9 +25,46 @@ export interface Sample {
  * only once the rows are committed.
  */
 export interface SampleSink {
-  write(samples: readonly Sample[]): Promise<void>;
+  /** Its result is the sink's own; a CommittedSampleSink resolves with a WriteReport. */
+  write(samples: readonly Sample[]): Promise<unknown>;
   flush(): Promise<void>;
   close?(): Promise<void>;
+}
+
+/**
+ * A sample refused because its key (tag, time) already holds another value or quality: the
+ * first stored value is kept (the store's rule, INTERFACES.md section A).
+ */
+export interface SampleConflict {
+  readonly tagId: number;
+  /** [ms since epoch] */
+  readonly time: number;
+  /** The refused value and quality. */
+  readonly value: number;
+  readonly quality: number;
+  /** The value and quality kept. */
+  readonly storedValue: number;
+  readonly storedQuality: number;
+  readonly ref?: number;
+}
+
+/** What a committed write did with the samples it was given. */
+export interface WriteReport {
+  /** Samples new to the store. */
+  readonly stored: number;
+  /** Samples identical (value bit for bit, quality) to the one already stored. */
+  readonly duplicates: number;
+  readonly conflicts: readonly SampleConflict[];
+  /**
+   * refs of the duplicates, when the store names them; without it a caller can tell stored
+   * from duplicate only when one of the two counts is 0.
+   */
+  readonly duplicateRefs?: readonly number[];
+}
+
+/** A sink whose write() resolves once the samples are committed, saying what became of them. */
+export interface CommittedSampleSink extends SampleSink {
+  write(samples: readonly Sample[]): Promise<WriteReport>;
 }
 
 /** A configured tag as the ingest needs it. */

@@ -80,9 +80,10 @@ export async function ingestCommand(
       ...(values.keep === true ? { processedDir: null, rejectedDir: null } : {}),
     });
     if (result.status === 'done') {
+      const { summary, written } = result;
       logger.info(
-        { file: basename(file), fileId: result.fileId, ...result.summary },
-        `${basename(file)}: ${result.summary.samples} samples stored, ${result.summary.quarantined} quarantined`,
+        { file: basename(file), fileId: result.fileId, ...summary, written },
+        `${basename(file)}: ${written.stored} samples stored, ${written.duplicates} already stored (duplicates), ${written.conflicts} refused (conflicting value, first stored value kept), ${summary.quarantined + written.conflicts} quarantined`,
       );
       return 0;
     }

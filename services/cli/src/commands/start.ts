@@ -171,7 +171,13 @@ async function startParts(
         scope.addHook('onRoute', (route) => {
           route.config = { ...route.config, role: 'public' };
         });
-        await scope.register(httpPushRoutes, { ...ingest.httpPushOptions(sha256Hex(token)), prefix: '/api' });
+        const perMinute = config.ingestRateLimitPerMinute;
+        const rateLimit = perMinute === 0 ? false : { max: perMinute, timeWindowMs: 60_000 };
+        await scope.register(httpPushRoutes, {
+          ...ingest.httpPushOptions(sha256Hex(token)),
+          rateLimit,
+          prefix: '/api',
+        });
       });
     }
   }

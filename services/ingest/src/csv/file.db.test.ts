@@ -1,4 +1,4 @@
-import { cp, mkdtemp, readdir, readFile, rm, writeFile } from 'node:fs/promises';
+import { cp, mkdtemp, readdir, readFile, rm, utimes, writeFile } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -172,7 +172,9 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
     expect(q[0]!.raw!.length).toBeLessThan(300);
   });
 
-  it('an unknown tag is quarantined once per column (wide) and once per tag with its row count (long)', async () => {
+  it('unknown tags are quarantined once per file (wide: naming the columns; long: each tag with its row count)', async () => {
+    // The earlier tests stored other values at these times: a conflict now, so start clean.
+    await clear();
     const w = await ingest('unknown-tags-wide.csv');
     if (w.status !== 'done') throw new Error(`status ${w.status}`);
     expect(w.summary.samples).toBe(6);
@@ -273,5 +275,110 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
     expect(q.at(-1)!.reason).toMatch(
       new RegExp(`^duplicate-file: ${join(dir, 'again.csv').replaceAll('.', '\\.')} has the same content`),
     );
+  });
+});
+
+async function fileRecord(fileId: number) {
+  const r = await db.pool.query<Record<string, number | string | null>>(
+    `SELECT status, rows_total, rows_stored, rows_duplicate, rows_conflicting, rows_quarantined
+       FROM ingested_files WHERE id = $1`,
+    [fileId],
+  );
+  return r.rows[0];
+}
+
+// Issue 18 item 14: a corrected file ended 'done', rows_stored = every row, nothing quarantined, nothing changed.
+// Counts below are by construction of the invented files (common practice, no source).
+describe('corrected and re-sent files: the first stored value is kept', () => {
+  const original =
+    'time,ST1.PI-100,ST1.TI-100\n2026-04-01T00:00:00Z,1.5,500\n2026-04-01T00:00:01Z,2.5,501\n2026-04-01T00:00:02Z,3.5,502\n';
+
+  it('refuses each corrected row with conflicting-value (line, tag, kept and refused value) and counts only rows written', async () => {
+    await clear();
+    await writeFile(join(dir, 'orig.csv'), original);
+    const first = await ingest('orig.csv');
+    if (first.status !== 'done') throw new Error(`status ${first.status}`);
+    expect(await fileRecord(first.fileId)).toMatchObject({
+      rows_stored: 6,
+      rows_duplicate: 0,
+      rows_conflicting: 0,
+    });
+
+    // Same times; line 3 has a new pressure, line 4 a new temperature.
+    const corrected = original.replace(',2.5,501', ',2.6,501').replace(',3.5,502', ',3.5,503');
+    await writeFile(join(dir, 'corrected.csv'), corrected);
+    const r = await ingest('corrected.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect(r.written).toEqual({ stored: 0, duplicates: 4, conflicts: 2 });
+    expect(await fileRecord(r.fileId)).toMatchObject({
+      status: 'done',
+      rows_total: 3,
+      rows_stored: 0,
+      rows_duplicate: 4,
+      rows_conflicting: 2,
+      rows_quarantined: 2,
+    });
+    const q = await quarantineOf(r.fileId);
+    expect(q.map((e) => [e.line, e.column_name, e.reason.split(':')[0]])).toEqual([
+      [3, 'ST1.PI-100', 'conflicting-value'],
+      [4, 'ST1.TI-100', 'conflicting-value'],
+    ]);
+    expect(q[0]!.reason).toContain('already holds 2.5');
+    expect(q[0]!.reason).toContain("this file's 2.6 is not stored");
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([1.5, 2.5, 3.5]);
+    expect((await samplesOf('ST1.TI-100')).map((s) => s.value)).toEqual([500, 501, 502]);
+  });
+
+  it('a CRLF copy of a stored file reports 0 stored and every row a duplicate', async () => {
+    await writeFile(join(dir, 'orig-crlf.csv'), original.replaceAll('\n', '\r\n'));
+    const r = await ingest('orig-crlf.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect(r.written).toEqual({ stored: 0, duplicates: 6, conflicts: 0 });
+    expect(await fileRecord(r.fileId)).toMatchObject({
+      rows_stored: 0,
+      rows_duplicate: 6,
+      rows_quarantined: 0,
+    });
+  });
+});
+
+// Issue 18 item 13: a last line cut off without a newline was stored short (90 for 90.4).
+describe('a file that may still be being written', () => {
+  it('quarantines a last line without a line end when the file changed within the settling time, and reads it once settled', async () => {
+    await clear();
+    const text = 'time,ST1.PI-100\n2026-05-01T00:00:00Z,89.9\n2026-05-01T00:00:01Z,90';
+    await writeFile(join(dir, 'cut.csv'), text);
+    const r = await ingest('cut.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect((await samplesOf('ST1.PI-100')).map((s) => s.value)).toEqual([89.9]);
+    expect((await quarantineOf(r.fileId)).map((e) => [e.line, e.reason.split(':')[0], e.raw])).toEqual([
+      [3, 'incomplete-line', '2026-05-01T00:00:01Z,90'],
+    ]);
+    // The same bytes, unchanged for longer than settleMs, are taken as complete.
+    const old = join(dir, 'settled.csv');
+    await writeFile(old, text.replace('90', '91'));
+    const past = new Date(Date.now() - 10 * 60_000);
+    await utimes(old, past, past);
+    const s = await ingest('settled.csv');
+    if (s.status !== 'done') throw new Error(`status ${s.status}`);
+    expect((await samplesOf('ST1.PI-100')).map((x) => x.value)).toEqual([89.9, 91]);
+  });
+});
+
+// Issue 18 item 8 for CSV: one absurd time failed the whole file (the store refused the batch's span), retried for ever.
+describe('CSV times outside the plausibility window', () => {
+  it('quarantines year 9999 and 0001 rows and stores the rest, 1970 beside 2026 included', async () => {
+    await clear();
+    await writeFile(
+      join(dir, 'absurd.csv'),
+      'time,ST1.PI-100\n2026-06-01T00:00:00Z,1\n9999-12-31T00:00:00Z,2\n0001-01-01T00:00:00Z,3\n1970-01-02T00:00:00Z,4\n',
+    );
+    const r = await ingest('absurd.csv');
+    if (r.status !== 'done') throw new Error(`status ${r.status}`);
+    expect((await quarantineOf(r.fileId)).map((e) => [e.line, e.reason.split(':')[0]])).toEqual([
+      [3, 'time-out-of-range'],
+      [4, 'time-out-of-range'],
+    ]);
+    expect((await samplesOf('ST1.PI-100')).map((x) => x.value)).toEqual([4, 1]);
   });
 });

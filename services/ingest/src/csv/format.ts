@@ -1,5 +1,6 @@
 /** Per-source options of a CSV drop, validated by zod; every field has a default. */
 import { z } from 'zod';
+import { DEFAULT_TIME_WINDOW } from '../time-window.js';
 import { BUILT_IN_TIME_FORMATS } from './time.js';
 
 function isTimeZone(zone: string): boolean {
@@ -35,6 +36,19 @@ export const csvFormatSchema = z.strictObject({
   ambiguousTime: z.enum(['order', 'quarantine']).default('order'),
   /** Longer lines are quarantined without being held in memory [bytes]. */
   maxLineBytes: z.number().int().positive().default(1_048_576),
+  /**
+   * A file whose last line has no line end and that was not renamed from *.part is held back
+   * until it has not changed for this long [ms]; read sooner, its last line is quarantined as
+   * incomplete-line (the writer may not have finished it).
+   */
+  settleMs: z.number().int().min(0).default(300_000),
+  /** Plausible sample times: from earliestMs [ms since epoch] to now + aheadMs [ms]; others are quarantined. */
+  timeWindow: z
+    .strictObject({
+      earliestMs: z.number().int().default(DEFAULT_TIME_WINDOW.earliestMs),
+      aheadMs: z.number().int().min(0).default(DEFAULT_TIME_WINDOW.aheadMs),
+    })
+    .default({ ...DEFAULT_TIME_WINDOW }),
   /** Wide files: header of the time column (default: the first column). */
   timeColumn: z.string().min(1).optional(),
   /** Long files: accepted header names (compared case-insensitively). */

@@ -18,8 +18,45 @@ describe('readLines', () => {
     expect(lines).toEqual([
       { kind: 'text', line: 1, text: 'time,a' },
       { kind: 'text', line: 2, text: '2026-01-01,1' },
-      { kind: 'text', line: 3, text: 'x,2' },
+      { kind: 'text', line: 3, text: 'x,2', unterminated: true },
     ]);
+  });
+
+  // Issue 18 item 12: old Mac and some loggers end lines with CR alone.
+  it('reads CR-only, and mixed CR / CRLF / LF line ends, also split across chunks', async () => {
+    const cr = await collect(['time,a\r2026-01-01,1\r2026-01-02,2\r']);
+    expect(cr.map((l) => [l.line, l.kind === 'text' ? l.text : l.kind])).toEqual([
+      [1, 'time,a'],
+      [2, '2026-01-01,1'],
+      [3, '2026-01-02,2'],
+    ]);
+    // CRLF split between chunks is one line end; a CR at a chunk's end followed by text is one too.
+    const mixed = await collect(['a\r', '\nb\rc\n', 'd\r', 'e\r\n\r\nf']);
+    expect(mixed.map((l) => [l.line, l.kind === 'text' ? l.text : l.kind])).toEqual([
+      [1, 'a'],
+      [2, 'b'],
+      [3, 'c'],
+      [4, 'd'],
+      [5, 'e'],
+      [6, ''],
+      [7, 'f'],
+    ]);
+    expect(mixed.map((l) => l.unterminated === true)).toEqual([
+      false,
+      false,
+      false,
+      false,
+      false,
+      false,
+      true,
+    ]);
+  });
+
+  // Issue 18 item 13: the reader says when the last line had no line end.
+  it('marks only a last line without a line end as unterminated', async () => {
+    expect((await collect(['a\nb\r\n'])).map((l) => l.unterminated === true)).toEqual([false, false]);
+    expect((await collect(['a\nb\r'])).map((l) => l.unterminated === true)).toEqual([false, false]);
+    expect((await collect(['a\n', 'b'])).map((l) => l.unterminated === true)).toEqual([false, true]);
   });
 
   it('reports invalid UTF-8 and over-long lines without holding them', async () => {

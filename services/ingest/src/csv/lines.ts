@@ -13,27 +13,31 @@
 import type { Readable } from 'node:stream';
 import { CsvError, parse as parseCsv } from 'csv-parse/sync';
 
+/** A last line without a line end (LF, CR or CRLF) carries unterminated: true; no other line has it. */
+interface LineEnd {
+  readonly unterminated?: true;
+}
+
 export type Line =
-  | { readonly kind: 'text'; readonly line: number; readonly text: string }
-  | {
+  | ({ readonly kind: 'text'; readonly line: number; readonly text: string } & LineEnd)
+  | ({
       readonly kind: 'invalid-utf8';
       readonly line: number /** Lossy decoding, for the report. */;
       readonly text: string;
-    }
-  | {
+    } & LineEnd)
+  | ({
       readonly kind: 'too-long';
       readonly line: number /** Length in bytes. */;
       readonly bytes: number /** The first bytes, decoded lossily. */;
       readonly head: string;
-    };
+    } & LineEnd);
 
+const LF = 0x0a;
+const CR = 0x0d;
 const decoder = new TextDecoder('utf-8', { fatal: true });
 const lossy = new TextDecoder('utf-8');
 
-function decodeLine(bytes: Buffer, line: number): Line {
-  let end = bytes.length;
-  if (end > 0 && bytes[end - 1] === 0x0d) end--;
-  const body = bytes.subarray(0, end);
+function decodeLine(body: Buffer, line: number): Line {
   // ASCII-only lines (the common case) decode without the strict decoder.
   let ascii = true;
   for (let i = 0; i < body.length; i++) {
@@ -54,62 +58,97 @@ function decodeLine(bytes: Buffer, line: number): Line {
 const BOM = Buffer.from([0xef, 0xbb, 0xbf]);
 
 /**
- * Yields the lines of a byte stream. maxLineBytes bounds the memory held for one line:
- * a longer line is reported as 'too-long' with its first bytes and skipped to its end.
+ * The bytes of the line being read, gathered over chunks. maxLineBytes bounds what is held:
+ * a longer line keeps only its first 200 bytes (for the report) and its length.
+ */
+class LineBuffer {
+  private carry: Buffer[] = [];
+  private carryBytes = 0;
+  private skipping = false;
+  private skippedBytes = 0;
+  private head = '';
+  line = 0;
+
+  constructor(private readonly maxLineBytes: number) {}
+
+  /** Adds a piece of the current line; copy when the chunk's memory is reused after this turn. */
+  add(piece: Buffer, copy: boolean): void {
+    if (this.skipping) {
+      this.skippedBytes += piece.length;
+    } else if (this.carryBytes + piece.length > this.maxLineBytes) {
+      this.skipping = true;
+      const joined = Buffer.concat([...this.carry, piece]);
+      this.head = lossy.decode(joined.subarray(0, 200));
+      this.skippedBytes = joined.length;
+      this.carry = [];
+      this.carryBytes = 0;
+    } else if (piece.length > 0) {
+      this.carry.push(copy ? Buffer.from(piece) : piece);
+      this.carryBytes += piece.length;
+    }
+  }
+
+  get empty(): boolean {
+    return !this.skipping && this.carryBytes === 0;
+  }
+
+  /** Ends the current line. */
+  take(): Line {
+    this.line++;
+    let out: Line;
+    if (this.skipping) {
+      out = { kind: 'too-long', line: this.line, bytes: this.skippedBytes, head: this.head };
+      this.skipping = false;
+      this.skippedBytes = 0;
+    } else {
+      out = decodeLine(this.carry.length === 1 ? this.carry[0]! : Buffer.concat(this.carry), this.line);
+    }
+    this.carry = [];
+    this.carryBytes = 0;
+    return out;
+  }
+}
+
+/**
+ * Yields the lines of a byte stream. A line ends at LF, CRLF or a lone CR (files from old Mac
+ * software and some data loggers), in any mix. maxLineBytes bounds the memory held for one
+ * line: a longer line is reported as 'too-long' with its first bytes and skipped to its end.
  */
 export async function* readLines(input: Readable, maxLineBytes: number): AsyncGenerator<Line> {
-  let carry: Buffer[] = [];
-  let carryBytes = 0;
-  let skipping = false;
-  let skippedBytes = 0;
-  let head = '';
-  let line = 0;
+  const buffer = new LineBuffer(maxLineBytes);
   let first = true;
+  // A CR ended the previous chunk: an LF opening this one belongs to the same line end.
+  let crPending = false;
   for await (const chunk of input as AsyncIterable<Buffer | string>) {
     let buf = typeof chunk === 'string' ? Buffer.from(chunk) : chunk;
     if (first) {
       first = false;
       if (buf.length >= 3 && buf.subarray(0, 3).equals(BOM)) buf = buf.subarray(3);
     }
-    let pos = 0;
+    if (buf.length === 0) continue;
+    let pos = crPending && buf[0] === LF ? 1 : 0;
+    crPending = false;
+    // Next LF and CR at or after pos; each is searched again only once passed (one scan per byte kind).
+    let lf = -2;
+    let cr = -2;
     while (pos < buf.length) {
-      const nl = buf.indexOf(0x0a, pos);
-      const end = nl === -1 ? buf.length : nl;
-      const piece = buf.subarray(pos, end);
-      if (skipping) {
-        skippedBytes += piece.length;
-      } else if (carryBytes + piece.length > maxLineBytes) {
-        skipping = true;
-        const joined = Buffer.concat([...carry, piece]);
-        head = lossy.decode(joined.subarray(0, 200));
-        skippedBytes = joined.length;
-        carry = [];
-        carryBytes = 0;
-      } else if (piece.length > 0) {
-        // Copy: the chunk's memory is reused by the stream after this iteration.
-        carry.push(nl === -1 ? Buffer.from(piece) : piece);
-        carryBytes += piece.length;
+      if (lf !== -1 && lf < pos) lf = buf.indexOf(LF, pos);
+      if (cr !== -1 && cr < pos) cr = buf.indexOf(CR, pos);
+      const end = cr === -1 || (lf !== -1 && lf < cr) ? lf : cr;
+      if (end === -1) {
+        buffer.add(buf.subarray(pos), true);
+        break;
       }
-      if (nl === -1) break;
-      line++;
-      if (skipping) {
-        yield { kind: 'too-long', line, bytes: skippedBytes, head };
-        skipping = false;
-        skippedBytes = 0;
-      } else {
-        const bytes = carry.length === 1 ? carry[0]! : Buffer.concat(carry);
-        yield decodeLine(bytes, line);
+      buffer.add(buf.subarray(pos, end), false);
+      yield buffer.take();
+      pos = end + 1;
+      if (end === cr) {
+        if (pos === buf.length) crPending = true;
+        else if (buf[pos] === LF) pos++;
       }
-      carry = [];
-      carryBytes = 0;
-      pos = nl + 1;
     }
   }
-  if (skipping) {
-    yield { kind: 'too-long', line: line + 1, bytes: skippedBytes, head };
-  } else if (carryBytes > 0) {
-    yield decodeLine(Buffer.concat(carry), line + 1);
-  }
+  if (!buffer.empty) yield { ...buffer.take(), unterminated: true };
 }
 
 export type SplitResult =

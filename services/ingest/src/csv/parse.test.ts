@@ -2,24 +2,34 @@ import { Readable } from 'node:stream';
 import { describe, expect, it } from 'vitest';
 import { tagLookupFrom } from '../types.js';
 import { csvFormatSchema } from './format.js';
-import { parseCsv, parseValue, type QuarantineEntry } from './parse.js';
+import { type ParseCsvOptions, parseCsv, parseValue, type QuarantineEntry } from './parse.js';
 
 const tags = tagLookupFrom([
   { id: 1, name: 'ST1.PI-100', unit: 'bara' },
   { id: 2, name: 'ST1.TI-100', unit: 'degC' },
 ]);
 
-async function run(text: string, format: Parameters<typeof csvFormatSchema.parse>[0]) {
+async function run(
+  text: string,
+  format: Parameters<typeof csvFormatSchema.parse>[0],
+  options: ParseCsvOptions = {},
+) {
   const samples: [number, string, number, number][] = [];
   const quarantine: QuarantineEntry[] = [];
-  const summary = await parseCsv(Readable.from([Buffer.from(text)]), csvFormatSchema.parse(format), tags, {
-    samples: async (b) => {
-      for (const s of b) samples.push([s.tagId, s.time.toISOString(), s.value, s.quality]);
+  const summary = await parseCsv(
+    Readable.from([Buffer.from(text)]),
+    csvFormatSchema.parse(format),
+    tags,
+    {
+      samples: async (b) => {
+        for (const s of b) samples.push([s.tagId, s.time.toISOString(), s.value, s.quality]);
+      },
+      quarantine: async (e) => {
+        quarantine.push(...e);
+      },
     },
-    quarantine: async (e) => {
-      quarantine.push(...e);
-    },
-  });
+    options,
+  );
   return { samples, quarantine, summary };
 }
 
@@ -76,5 +86,50 @@ describe('parseCsv', () => {
     expect(r.quarantine.map((q) => [q.line, q.column, q.code, q.raw])).toEqual([
       [1, null, 'no-data', 'time,ST1.PI-100'],
     ]);
+  });
+
+  // Issue 18 item 12: CR-only files lost every row ("unknown-tag: column '0.5'").
+  it('reads a CR-only file like an LF one', async () => {
+    const text = 'time,ST1.PI-100,ST1.TI-100\r2026-01-01T00:00:00Z,0.5,510\r2026-01-01T00:00:01Z,0.6,511\r';
+    const cr = await run(text, {});
+    expect(cr.quarantine).toEqual([]);
+    expect(cr.samples).toEqual((await run(text.replaceAll('\r', '\n'), {})).samples);
+    expect(cr.samples).toHaveLength(4);
+  });
+
+  // Issue 18 item 13: "90" of a line still being written ("90.4") was stored.
+  it('quarantines a last line without a line end when told the file may be incomplete', async () => {
+    const text = 'time,ST1.PI-100\n2026-01-01T00:00:00Z,89.9\n2026-01-01T00:00:01Z,90';
+    const held = await run(text, {}, { lastLineMayBeCut: true });
+    expect(held.samples).toEqual([[1, '2026-01-01T00:00:00.000Z', 89.9, 192]]);
+    expect(held.quarantine.map((q) => [q.line, q.code, q.raw])).toEqual([
+      [3, 'incomplete-line', '2026-01-01T00:00:01Z,90'],
+    ]);
+    const complete = await run(text, {});
+    expect(complete.samples.map((s) => s[2])).toEqual([89.9, 90]);
+    const terminated = await run(`${text}\n`, {}, { lastLineMayBeCut: true });
+    expect(terminated.samples.map((s) => s[2])).toEqual([89.9, 90]);
+  });
+
+  // Issue 18 item 15: 20,000 unknown columns wrote 20,000 quarantine rows per file.
+  it('reports the unknown columns of a wide file once per file, and the unknown tags of a long file once', async () => {
+    const unknown = Array.from({ length: 30 }, (_, i) => `XX.U${i}`);
+    let text = `time,ST1.PI-100,${unknown.join(',')}\n`;
+    for (let r = 0; r < 5; r++) text += `2026-01-01T00:00:0${r}Z,1,${unknown.map(() => '2').join(',')}\n`;
+    const wide = await run(text, {});
+    expect(wide.samples).toHaveLength(5);
+    expect(wide.summary.skippedCells).toBe(150);
+    expect(wide.quarantine.map((q) => [q.line, q.code])).toEqual([[1, 'unknown-tag']]);
+    expect(wide.quarantine[0]!.reason).toContain('30 columns');
+    expect(wide.quarantine[0]!.reason).toContain('"XX.U0"');
+    const long = await run(
+      'tag,time,value\nA.X,2026-01-01T00:00:00Z,1\nB.X,2026-01-01T00:00:00Z,1\nA.X,2026-01-01T00:00:01Z,1\n',
+      {
+        layout: 'long',
+      },
+    );
+    expect(long.quarantine.map((q) => [q.line, q.code])).toEqual([[2, 'unknown-tag']]);
+    expect(long.quarantine[0]!.reason).toContain('"A.X" (2 rows, the first at line 2)');
+    expect(long.quarantine[0]!.reason).toContain('"B.X" (1 row, the first at line 3)');
   });
 });

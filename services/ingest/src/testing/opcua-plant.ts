@@ -33,10 +33,11 @@ export interface PlantServerOptions {
   readonly badEvery?: number;
 }
 
-export async function startPlantServer(options: PlantServerOptions): Promise<PlantServer> {
-  const opcua = await loadNodeOpcua();
-  const { OPCUAServer, OPCUACertificateManager, DataType, Variant, StatusCodes } = opcua;
-  const server = new OPCUAServer({
+type NodeOpcua = Awaited<ReturnType<typeof loadNodeOpcua>>;
+
+function newServer(opcua: NodeOpcua, options: PlantServerOptions) {
+  const { OPCUAServer, OPCUACertificateManager } = opcua;
+  return new OPCUAServer({
     port: 0,
     serverCertificateManager: new OPCUACertificateManager({
       rootFolder: `${options.pkiDir}/server`,
@@ -53,6 +54,21 @@ export async function startPlantServer(options: PlantServerOptions): Promise<Pla
       operationLimits: { maxMonitoredItemsPerCall: 100_000 },
     },
   });
+}
+
+/** Status of variable i at this tick: the first variable is Uncertain or Bad every so often (options). */
+function statusAt(opcua: NodeOpcua, options: PlantServerOptions, i: number, tick: number) {
+  const { StatusCodes } = opcua;
+  const every = (n: number | undefined) => i === 0 && n !== undefined && n > 0 && tick % n === 0;
+  if (every(options.badEvery)) return StatusCodes.BadSensorFailure;
+  if (every(options.uncertainEvery)) return StatusCodes.UncertainLastUsableValue;
+  return StatusCodes.Good;
+}
+
+export async function startPlantServer(options: PlantServerOptions): Promise<PlantServer> {
+  const opcua = await loadNodeOpcua();
+  const { DataType, Variant, StatusCodes } = opcua;
+  const server = newServer(opcua, options);
   await server.initialize();
   const addressSpace = server.engine.addressSpace!;
   const namespace = addressSpace.getOwnNamespace();
@@ -96,21 +112,7 @@ export async function startPlantServer(options: PlantServerOptions): Promise<Pla
         variables.forEach((v, i) => {
           // Invented demo values: a slow ramp plus the variable's index.
           const value = i * 10 + (tick % 1000) / 10;
-          let status = StatusCodes.Good;
-          if (
-            i === 0 &&
-            options.uncertainEvery !== undefined &&
-            options.uncertainEvery > 0 &&
-            tick % options.uncertainEvery === 0
-          )
-            status = StatusCodes.UncertainLastUsableValue;
-          if (
-            i === 0 &&
-            options.badEvery !== undefined &&
-            options.badEvery > 0 &&
-            tick % options.badEvery === 0
-          )
-            status = StatusCodes.BadSensorFailure;
+          const status = statusAt(opcua, options, i, tick);
           v.setValueFromSource(new Variant({ dataType: DataType.Double, value }), status, new Date(now));
           if (record) published.push({ name: options.names[i]!, value, time: now, status: status.value });
         });
