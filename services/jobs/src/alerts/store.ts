@@ -9,49 +9,23 @@
 import {
   type AlertEvent,
   type AlertState,
-  type AlertStatus,
   CAUTION,
   initialAlert,
+  STATUS_TO_STORED,
+  type StoredAlertState,
   stepAlert,
+  storedAlertState,
 } from '@isentrope/monitor';
-import { appendAudit } from '@isentrope/store';
-import type { Queryable } from '../queries/machines.js';
+import { appendAudit, type Queryable } from '@isentrope/store';
 import type { AlertSeverityColumn } from './config.js';
 import { isoSeconds } from './times.js';
-
-export type AlertDbState =
-  | 'normal'
-  | 'active_unacknowledged'
-  | 'active_acknowledged'
-  | 'returned_unacknowledged'
-  | 'shelved'
-  | 'suppressed'
-  | 'out_of_service';
-
-/** Stored states (migrations/0003) to the reducer's statuses (packages/monitor/src/alerts.ts). */
-export const DB_TO_STATUS: Readonly<Record<Exclude<AlertDbState, 'suppressed'>, AlertStatus>> = {
-  normal: 'normal',
-  active_unacknowledged: 'active-unack',
-  active_acknowledged: 'active-ack',
-  returned_unacknowledged: 'rtn-unack',
-  shelved: 'shelved',
-  out_of_service: 'out-of-service',
-};
-export const STATUS_TO_DB: Readonly<Record<AlertStatus, AlertDbState>> = {
-  normal: 'normal',
-  'active-unack': 'active_unacknowledged',
-  'active-ack': 'active_acknowledged',
-  'rtn-unack': 'returned_unacknowledged',
-  shelved: 'shelved',
-  'out-of-service': 'out_of_service',
-};
 
 export interface OpenAlertRow {
   id: number;
   category: 'drift' | 'instrument';
   tag_id: number | null;
   level: 'warning' | 'alarm';
-  state: AlertDbState;
+  state: StoredAlertState;
   shelved_until_ms: number | null;
   shelved_by: string | null;
   cleared_at: Date | null;
@@ -69,28 +43,16 @@ export async function lockOpenAlerts(db: Queryable, machineId: number): Promise<
   return res.rows;
 }
 
-/**
- * The reducer's state of a stored row (the same reading as the API's): the condition is active in
- * the active states, inactive once returned or normal; while shelved or out of service it is
- * active unless cleared_at is set (this job sets it when the condition returns).
- */
+/** The reducer's state of a stored row (packages/monitor storedAlertState). */
 export function rowToState(a: OpenAlertRow): AlertState | undefined {
-  if (a.state === 'suppressed') return undefined; // not a reducer state: left to the operator
-  const status = DB_TO_STATUS[a.state];
-  const conditionActive =
-    status === 'active-unack' || status === 'active-ack'
-      ? true
-      : status === 'rtn-unack' || status === 'normal'
-        ? false
-        : a.cleared_at === null;
-  return {
-    type: a.category === 'instrument' ? 'instrument-fault' : 'drift',
-    status,
-    conditionActive,
-    severity: a.level,
-    ...(a.shelved_until_ms !== null ? { shelvedUntil: a.shelved_until_ms } : {}),
-    ...(a.shelved_by !== null ? { shelvedBy: a.shelved_by } : {}),
-  };
+  return storedAlertState({
+    state: a.state,
+    category: a.category,
+    level: a.level,
+    cleared: a.cleared_at !== null,
+    shelvedUntilMs: a.shelved_until_ms,
+    shelvedBy: a.shelved_by,
+  });
 }
 
 export interface AlertTarget {
@@ -161,7 +123,7 @@ export async function applyAlertEvent(
         target.tagId,
         level,
         target.severity,
-        STATUS_TO_DB[s.status],
+        STATUS_TO_STORED[s.status],
         withCaution(ctx?.message ?? `${target.category} condition active`),
         JSON.stringify(evidence ?? { caution: CAUTION }),
         when,
@@ -174,7 +136,7 @@ export async function applyAlertEvent(
       category: target.category,
       tag_id: target.tagId,
       level,
-      state: STATUS_TO_DB[s.status],
+      state: STATUS_TO_STORED[s.status],
       shelved_until_ms: null,
       shelved_by: null,
       cleared_at: null,
@@ -198,7 +160,7 @@ export async function applyAlertEvent(
         WHERE id = $1`,
       [
         open.id,
-        STATUS_TO_DB[s.status],
+        STATUS_TO_STORED[s.status],
         level,
         JSON.stringify(newEvidence),
         clearedAt,
@@ -212,7 +174,7 @@ export async function applyAlertEvent(
     row = {
       ...open,
       level,
-      state: STATUS_TO_DB[s.status],
+      state: STATUS_TO_STORED[s.status],
       shelved_until_ms: s.shelvedUntil ?? null,
       shelved_by: s.shelvedBy ?? null,
       cleared_at: clearedAt,
@@ -226,8 +188,8 @@ export async function applyAlertEvent(
       [
         id,
         new Date(t.at),
-        STATUS_TO_DB[t.from],
-        STATUS_TO_DB[t.to],
+        STATUS_TO_STORED[t.from],
+        STATUS_TO_STORED[t.to],
         t.reason,
         JSON.stringify({ reason: t.reason, evidence: evidence ?? null, caution: CAUTION }),
       ],
@@ -237,8 +199,8 @@ export async function applyAlertEvent(
       action: 'alert.transition',
       entity: 'alert',
       entityId: id,
-      before: { state: STATUS_TO_DB[t.from] },
-      after: { state: STATUS_TO_DB[t.to], reason: t.reason, eventId: ev.rows[0]?.id ?? null },
+      before: { state: STATUS_TO_STORED[t.from] },
+      after: { state: STATUS_TO_STORED[t.to], reason: t.reason, eventId: ev.rows[0]?.id ?? null },
     });
   }
   return {

@@ -15,8 +15,8 @@ import {
   type PolynomialBaseline,
 } from '@isentrope/monitor';
 import { baselineSchema } from '@isentrope/plant';
+import type { Queryable } from '@isentrope/store';
 import { appendAudit } from '@isentrope/store';
-import type { Queryable } from '../queries/machines.js';
 
 /** Results that a baseline fit or a rolling window may use (steady, valid, no instrument fault). */
 export const USABLE_RESULT_SQL = `steady AND valid AND efficiency IS NOT NULL

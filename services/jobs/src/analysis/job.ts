@@ -12,11 +12,11 @@
  *     date of reaching the alarm band (packages/monitor/src/degradation.ts).
  */
 import { CAUTION, computeDrift, degradation } from '@isentrope/monitor';
+import type { Queryable } from '@isentrope/store';
 import { inTransaction } from '@isentrope/store';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
 import { runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
-import type { Queryable } from '../queries/machines.js';
 import {
   fitBaselineFromSpec,
   readActiveBaseline,

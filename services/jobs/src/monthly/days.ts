@@ -5,8 +5,8 @@
  * data says.
  */
 import type { LocalDay } from '@isentrope/monitor';
+import type { Queryable } from '@isentrope/store';
 import { USABLE_RESULT_SQL } from '../analysis/baseline.js';
-import type { Queryable } from '../queries/machines.js';
 
 /** Means of drift [%-points] over usable results per local day with at least minPoints; t is the day's mid-point [ms]. */
 export async function localDailyDriftMeans(

@@ -30,10 +30,10 @@ import {
   renderReportJson,
   sharedMonthZone,
 } from '@isentrope/monitor';
+import type { Queryable } from '@isentrope/store';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
 import { JobsError } from '../errors.js';
-import type { Queryable } from '../queries/machines.js';
 import { localDailyDriftMeans } from './days.js';
 import { dueMonths } from './due.js';
 
