@@ -13,6 +13,7 @@ export * from './embedded.js';
 export * from './errors.js';
 export * from './ingest-records.js';
 export * from './migrate.js';
+export * from './monthly-figures.js';
 export * from './partitions.js';
 export * from './plant-config.js';
 export * from './quality.js';

@@ -8,12 +8,12 @@ import { createHash } from 'node:crypto';
 import {
   assertTimeZone,
   buildMonthlyReport,
+  gatherMonth,
   localMonth,
-  renderReportCsv,
-  renderReportHtml,
-  renderReportJson,
+  renderReport,
   sharedMonthZone,
 } from '@isentrope/monitor';
+import { monthlyFigures } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
@@ -29,7 +29,6 @@ import {
   pageQuery,
   problemSchema,
 } from '../http/schemas.js';
-import { gatherMonthlyInput } from '../queries/monthly.js';
 
 export const EXPORT_KIND = 'monthly-degradation';
 
@@ -132,7 +131,11 @@ export async function exportTimeZone(
   return zone;
 }
 
-/** Render the month's report in one format (the monthly job calls the same builder and renderers). */
+/**
+ * Render the month's report in one format: the same gatherer (packages/monitor gatherMonth over
+ * the stored figures), builder and renderer as the scheduled monthly job, so an export made here
+ * and one made by the schedule for the same month and clock are the same bytes.
+ */
 export async function renderMonthlyExport(
   ctx: Pick<ApiContext, 'pool' | 'energyPrice' | 'now'>,
   month: string,
@@ -140,18 +143,13 @@ export async function renderMonthlyExport(
   format: Format,
   machineId: number | undefined,
 ): Promise<string> {
-  const input = await gatherMonthlyInput(ctx.pool, month, {
+  const input = await gatherMonth(monthlyFigures(ctx.pool), month, {
     timeZone,
     machineIds: machineId === undefined ? undefined : [machineId],
     price: ctx.energyPrice,
     generatedAtMs: ctx.now(),
   });
-  const report = buildMonthlyReport(input);
-  return format === 'csv'
-    ? renderReportCsv(report)
-    : format === 'json'
-      ? renderReportJson(report)
-      : renderReportHtml(report);
+  return renderReport(buildMonthlyReport(input), format);
 }
 
 export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {

@@ -15,12 +15,7 @@ import {
   type PolynomialBaseline,
 } from '@isentrope/monitor';
 import { baselineSchema } from '@isentrope/plant';
-import type { Queryable } from '@isentrope/store';
-import { appendAudit } from '@isentrope/store';
-
-/** Results that a baseline fit or a rolling window may use (steady, valid, no instrument fault). */
-export const USABLE_RESULT_SQL = `steady AND valid AND efficiency IS NOT NULL
-  AND NOT EXISTS (SELECT 1 FROM unnest(flags) AS f(flag) WHERE f.flag LIKE 'fault:%')`;
+import { appendAudit, type Queryable, USABLE_RESULT_SQL } from '@isentrope/store';
 
 export interface StoredBaseline {
   readonly id: number;

@@ -12,17 +12,11 @@
  *     date of reaching the alarm band (packages/monitor/src/degradation.ts).
  */
 import { CAUTION, computeDrift, degradation } from '@isentrope/monitor';
-import type { Queryable } from '@isentrope/store';
-import { inTransaction } from '@isentrope/store';
+import { inTransaction, type Queryable, USABLE_RESULT_SQL } from '@isentrope/store';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
 import { runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
-import {
-  fitBaselineFromSpec,
-  readActiveBaseline,
-  type StoredBaseline,
-  USABLE_RESULT_SQL,
-} from './baseline.js';
+import { fitBaselineFromSpec, readActiveBaseline, type StoredBaseline } from './baseline.js';
 import { finiteOrNull, type WindowFigure, windowFigure } from './windows.js';
 
 const DAY_MS = 86_400_000;
