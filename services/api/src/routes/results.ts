@@ -214,7 +214,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
     const trend =
       toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
         ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
-        : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets, baseline);
+        : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets);
     return {
       machineId: m.id,
       from: new Date(fromMs).toISOString(),
@@ -307,7 +307,8 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       const baseline = await activeBaseline(ctx.pool, m.id);
       if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
       const bands = await getBands(ctx.pool, m.id);
-      const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, baseline));
+      // Every UTC day with a stored drift counts here (the analysis job's rate asks 60 points a day).
+      const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, 1));
       const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
       const iso = (v: number | undefined): string | null =>
         v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
