@@ -152,7 +152,9 @@ export async function renderMonthlyExport(
   return renderReport(buildMonthlyReport(input), format);
 }
 
-export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function listExportsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/exports',
     {
@@ -184,7 +186,9 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       };
     },
   );
+}
 
+function makeExportRoute(app: App, ctx: ApiContext): void {
   app.post(
     '/exports',
     {
@@ -229,7 +233,7 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       const bytes = Buffer.from(content, 'utf8');
       const { rows } = await ctx.pool.query<ExportRow>(
         `INSERT INTO exports (kind, machine_id, period_from, period_to, format, status, content, checksum, error, created_by, finished_at)
-         VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, now()) RETURNING ${COLS}`,
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, now()) RETURNING ${COLS}`,
         [
           EXPORT_KIND,
           machineId ?? null,
@@ -256,7 +260,9 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       return reply.code(201).send(exportOut(row));
     },
   );
+}
 
+function downloadExportRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/exports/:id/download',
     {
@@ -284,4 +290,10 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
         .send(r.content.toString('utf8'));
     },
   );
+}
+
+export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  listExportsRoute(app, ctx);
+  makeExportRoute(app, ctx);
+  downloadExportRoute(app, ctx);
 };

@@ -172,7 +172,23 @@ const trendQuery = rangeQuery.extend({
     .describe('Number of buckets (points) wanted'),
 });
 
-export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+const machineOut = (m: Awaited<ReturnType<typeof listMachines>>[number]): z.infer<typeof machineSchema> => ({
+  id: m.id,
+  site: m.site_slug,
+  slug: m.slug,
+  name: m.name,
+  kind: m.kind,
+  fluid: m.fluid,
+  ratings: m.ratings,
+  driverEfficiency: m.driver_efficiency,
+  outOfService: m.out_of_service,
+  keyTags: m.key_tags,
+  retiredAt: m.retired_at?.toISOString() ?? null,
+});
+
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function sitesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/sites',
     {
@@ -193,7 +209,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       })),
     }),
   );
+}
 
+function fleetRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/fleet',
     {
@@ -215,23 +233,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       };
     },
   );
+}
 
-  const machineOut = (
-    m: Awaited<ReturnType<typeof listMachines>>[number],
-  ): z.infer<typeof machineSchema> => ({
-    id: m.id,
-    site: m.site_slug,
-    slug: m.slug,
-    name: m.name,
-    kind: m.kind,
-    fluid: m.fluid,
-    ratings: m.ratings,
-    driverEfficiency: m.driver_efficiency,
-    outOfService: m.out_of_service,
-    keyTags: m.key_tags,
-    retiredAt: m.retired_at?.toISOString() ?? null,
-  });
-
+function machinesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines',
     {
@@ -243,7 +247,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
     },
     async () => ({ items: (await listMachines(ctx.pool)).map(machineOut) }),
   );
+}
 
+function machineRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id',
     {
@@ -260,7 +266,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return machineOut(m);
     },
   );
+}
 
+function tagsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags',
     {
@@ -273,7 +281,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
     },
     async (request) => ({ items: (await listTags(ctx.pool, request.query.machine)).map(tagOut) }),
   );
+}
 
+function tagRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id',
     {
@@ -290,7 +300,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return tagOut(t);
     },
   );
+}
 
+function tagSamplesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id/samples',
     {
@@ -327,7 +339,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       };
     },
   );
+}
 
+function tagTrendRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id/trend',
     {
@@ -377,4 +391,15 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return body;
     },
   );
+}
+
+export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  sitesRoute(app, ctx);
+  fleetRoute(app, ctx);
+  machinesRoute(app, ctx);
+  machineRoute(app, ctx);
+  tagsRoute(app, ctx);
+  tagRoute(app, ctx);
+  tagSamplesRoute(app, ctx);
+  tagTrendRoute(app, ctx);
 };

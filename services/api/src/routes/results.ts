@@ -16,7 +16,7 @@ import {
   resolveRange,
 } from '../http/schemas.js';
 import { activeBaseline } from '../queries/baselines.js';
-import { getBands, getMachine } from '../queries/machines.js';
+import { getBands, machineOr404 } from '../queries/machines.js';
 import { withoutJit } from '../queries/nojit.js';
 import {
   dailyDrift,
@@ -152,14 +152,45 @@ function roundBucket(b: TrendBucket): TrendBucket {
   };
 }
 
-export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
-  const cache = new TrendCache(ctx.pool, ctx.now);
-  async function machineOr404(id: number) {
-    const m = await getMachine(ctx.pool, id);
-    if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
-    return m;
-  }
+async function buildTrend(
+  ctx: ApiContext,
+  cache: TrendCache,
+  id: number,
+  range: { from?: string | undefined; to?: string | undefined },
+  bucketsOrWindow: { buckets: number } | { windowS: number },
+) {
+  const m = await machineOr404(ctx.pool, id);
+  const { fromMs, toMs } = resolveRange(range, ctx.now());
+  const baseline = await activeBaseline(ctx.pool, m.id);
+  const bands = await getBands(ctx.pool, m.id);
+  const buckets =
+    'buckets' in bucketsOrWindow
+      ? bucketsOrWindow.buckets
+      : Math.max(1, Math.ceil((toMs - fromMs) / (bucketsOrWindow.windowS * 1000)));
+  if (buckets > 20_000)
+    throw new ApiError('API_UNPROCESSABLE', {
+      reason: `${buckets} windows asked; at most 20000 per request`,
+    });
+  // Long ranges come from the hourly aggregates (whole-hour buckets); short ones from the live query.
+  const hourly = Math.ceil((toMs - fromMs) / buckets / HOUR) * HOUR;
+  const trend =
+    toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
+      ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
+      : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets);
+  return {
+    machineId: m.id,
+    from: new Date(fromMs).toISOString(),
+    to: new Date(toMs).toISOString(),
+    bucketMs: trend.widthMs,
+    bands: bands === undefined ? null : { warning: bands.warning, alarm: bands.alarm },
+    baselineId: baseline?.id ?? null,
+    buckets: trend.buckets.map(roundBucket),
+  };
+}
 
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function resultsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/results',
     {
@@ -172,7 +203,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request) => {
-      await machineOr404(request.params.id);
+      await machineOr404(ctx.pool, request.params.id);
       const { fromMs, toMs } = resolveRange(request.query, ctx.now());
       const cursor = decodeCursor(request.query.cursor);
       const before = cursor === undefined ? undefined : Number(cursor[0]);
@@ -191,41 +222,9 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       };
     },
   );
+}
 
-  async function buildTrend(
-    id: number,
-    range: { from?: string | undefined; to?: string | undefined },
-    bucketsOrWindow: { buckets: number } | { windowS: number },
-  ) {
-    const m = await machineOr404(id);
-    const { fromMs, toMs } = resolveRange(range, ctx.now());
-    const baseline = await activeBaseline(ctx.pool, m.id);
-    const bands = await getBands(ctx.pool, m.id);
-    const buckets =
-      'buckets' in bucketsOrWindow
-        ? bucketsOrWindow.buckets
-        : Math.max(1, Math.ceil((toMs - fromMs) / (bucketsOrWindow.windowS * 1000)));
-    if (buckets > 20_000)
-      throw new ApiError('API_UNPROCESSABLE', {
-        reason: `${buckets} windows asked; at most 20000 per request`,
-      });
-    // Long ranges come from the hourly aggregates (whole-hour buckets); short ones from the live query.
-    const hourly = Math.ceil((toMs - fromMs) / buckets / HOUR) * HOUR;
-    const trend =
-      toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
-        ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
-        : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets);
-    return {
-      machineId: m.id,
-      from: new Date(fromMs).toISOString(),
-      to: new Date(toMs).toISOString(),
-      bucketMs: trend.widthMs,
-      bands: bands === undefined ? null : { warning: bands.warning, alarm: bands.alarm },
-      baselineId: baseline?.id ?? null,
-      buckets: trend.buckets.map(roundBucket),
-    };
-  }
-
+function trendRoute(app: App, ctx: ApiContext, cache: TrendCache): void {
   app.get(
     '/machines/:id/trend',
     {
@@ -241,11 +240,15 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request, reply) => {
-      const body = await buildTrend(request.params.id, request.query, { buckets: request.query.buckets });
+      const body = await buildTrend(ctx, cache, request.params.id, request.query, {
+        buckets: request.query.buckets,
+      });
       return sendJsonWithEtag(request, reply, body);
     },
   );
+}
 
+function rollingRoute(app: App, ctx: ApiContext, cache: TrendCache): void {
   app.get(
     '/machines/:id/rolling',
     {
@@ -266,11 +269,15 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request, reply) => {
-      const body = await buildTrend(request.params.id, request.query, { windowS: request.query.windowS });
+      const body = await buildTrend(ctx, cache, request.params.id, request.query, {
+        windowS: request.query.windowS,
+      });
       return sendJsonWithEtag(request, reply, body);
     },
   );
+}
 
+function driftRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/drift',
     {
@@ -302,7 +309,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request) => {
-      const m = await machineOr404(request.params.id);
+      const m = await machineOr404(ctx.pool, request.params.id);
       const { fromMs, toMs } = resolveRange(request.query, ctx.now(), 90 * 86_400_000);
       const baseline = await activeBaseline(ctx.pool, m.id);
       if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
@@ -356,4 +363,12 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       };
     },
   );
+}
+
+export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  const cache = new TrendCache(ctx.pool, ctx.now);
+  resultsRoute(app, ctx);
+  trendRoute(app, ctx, cache);
+  rollingRoute(app, ctx, cache);
+  driftRoute(app, ctx);
 };
