@@ -1,4 +1,4 @@
-import { fitBaseline, MonitorError } from '@isentrope/monitor';
+import { fitBaseline, MonitorError, type PolynomialBaseline } from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
@@ -95,6 +95,36 @@ function listBaselinesRoute(app: App, ctx: ApiContext): void {
   );
 }
 
+/** Fit a polynomial baseline on the period's valid (and, when asked, steady) results; a fit that cannot be made is API_FIT_FAILED. */
+async function fitOnPeriod(
+  ctx: ApiContext,
+  machineId: number,
+  fromMs: number,
+  toMs: number,
+  body: { degree: 1 | 2 | 3; steadyOnly: boolean },
+): Promise<PolynomialBaseline> {
+  const { rows: pts } = await ctx.pool.query<{ x: number; y: number }>(
+    `SELECT operating_point AS x, efficiency AS y FROM results
+    WHERE machine_id = $1 AND time >= $2 AND time < $3 AND valid AND ($4::boolean IS FALSE OR steady)
+      AND efficiency IS NOT NULL AND operating_point IS NOT NULL`,
+    [machineId, new Date(fromMs), new Date(toMs), body.steadyOnly],
+  );
+  let model: ReturnType<typeof fitBaseline>;
+  try {
+    model = fitBaseline(
+      pts.map((p) => p.x),
+      pts.map((p) => p.y),
+      { method: 'polynomial', degree: body.degree },
+    );
+  } catch (error) {
+    if (error instanceof MonitorError)
+      throw new ApiError('API_FIT_FAILED', { reason: `${error.code}: ${error.message}` });
+    throw error;
+  }
+  if (model.kind !== 'polynomial') throw new ApiError('API_FIT_FAILED', { reason: 'not a polynomial' });
+  return model;
+}
+
 function fitBaselineRoute(app: App, ctx: ApiContext): void {
   app.post(
     '/machines/:id/baselines',
@@ -121,25 +151,7 @@ function fitBaselineRoute(app: App, ctx: ApiContext): void {
       const fromMs = Date.parse(body.from);
       const toMs = Date.parse(body.to);
       if (!(fromMs < toMs)) throw new ApiError('API_BAD_RANGE', { from: body.from, to: body.to });
-      const { rows: pts } = await ctx.pool.query<{ x: number; y: number }>(
-        `SELECT operating_point AS x, efficiency AS y FROM results
-        WHERE machine_id = $1 AND time >= $2 AND time < $3 AND valid AND ($4::boolean IS FALSE OR steady)
-          AND efficiency IS NOT NULL AND operating_point IS NOT NULL`,
-        [m.id, new Date(fromMs), new Date(toMs), body.steadyOnly],
-      );
-      let model: ReturnType<typeof fitBaseline>;
-      try {
-        model = fitBaseline(
-          pts.map((p) => p.x),
-          pts.map((p) => p.y),
-          { method: 'polynomial', degree: body.degree },
-        );
-      } catch (error) {
-        if (error instanceof MonitorError)
-          throw new ApiError('API_FIT_FAILED', { reason: `${error.code}: ${error.message}` });
-        throw error;
-      }
-      if (model.kind !== 'polynomial') throw new ApiError('API_FIT_FAILED', { reason: 'not a polynomial' });
+      const model = await fitOnPeriod(ctx, m.id, fromMs, toMs, body);
       const actor = request.principal!;
       const row = await inTransaction(ctx.pool, async (client) => {
         const before = await client.query<BaselineRow>(

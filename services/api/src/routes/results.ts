@@ -19,6 +19,7 @@ import { activeBaseline } from '../queries/baselines.js';
 import { getBands, machineOr404 } from '../queries/machines.js';
 import { withoutJit } from '../queries/nojit.js';
 import {
+  type DailyDrift,
   dailyDrift,
   listResults,
   type ResultRow,
@@ -277,6 +278,56 @@ function rollingRoute(app: App, ctx: ApiContext, cache: TrendCache): void {
   );
 }
 
+const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
+const isoOrNull = (v: number | undefined): string | null =>
+  v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
+
+/** The drift answer: the days, and the Theil-Sen rate with its forecast when an alarm level is set. */
+function driftAnswer(machineId: number, days: DailyDrift[], alarmPts: number | undefined) {
+  if (alarmPts === undefined)
+    return {
+      machineId,
+      days,
+      alarmPts: null,
+      ratePtsPerMonth: null,
+      rateLowPtsPerMonth: null,
+      rateHighPtsPerMonth: null,
+      forecast: {
+        status: 'none' as const,
+        at: null,
+        earliest: null,
+        latest: null,
+        text: 'No bands configured: no alarm level to forecast.',
+      },
+    };
+  const d = degradation(
+    days.map((x) => x.t),
+    days.map((x) => x.driftPts),
+    { alarmPts },
+  );
+  const f = d.forecast;
+  return {
+    machineId,
+    days,
+    alarmPts,
+    ratePtsPerMonth: finite(d.ratePtsPerMonth),
+    rateLowPtsPerMonth: finite(d.rateLowPtsPerMonth),
+    rateHighPtsPerMonth: finite(d.rateHighPtsPerMonth),
+    forecast:
+      f.status === 'forecast'
+        ? {
+            status: f.status,
+            at: isoOrNull(f.atMs),
+            earliest: isoOrNull(f.earliestMs),
+            latest: isoOrNull(f.latestMs),
+            text: 'forecast from the Theil-Sen line',
+          }
+        : f.status === 'reached'
+          ? { status: f.status, at: isoOrNull(f.atMs), earliest: null, latest: null, text: f.reason }
+          : { status: f.status, at: null, earliest: null, latest: null, text: f.text },
+  };
+}
+
 function driftRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/drift',
@@ -316,51 +367,7 @@ function driftRoute(app: App, ctx: ApiContext): void {
       const bands = await getBands(ctx.pool, m.id);
       // Every UTC day with a stored drift counts here (the analysis job's rate asks 60 points a day).
       const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, 1));
-      const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
-      const iso = (v: number | undefined): string | null =>
-        v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
-      if (bands === undefined)
-        return {
-          machineId: m.id,
-          days,
-          alarmPts: null,
-          ratePtsPerMonth: null,
-          rateLowPtsPerMonth: null,
-          rateHighPtsPerMonth: null,
-          forecast: {
-            status: 'none' as const,
-            at: null,
-            earliest: null,
-            latest: null,
-            text: 'No bands configured: no alarm level to forecast.',
-          },
-        };
-      const d = degradation(
-        days.map((x) => x.t),
-        days.map((x) => x.driftPts),
-        { alarmPts: -bands.alarm },
-      );
-      const f = d.forecast;
-      return {
-        machineId: m.id,
-        days,
-        alarmPts: -bands.alarm,
-        ratePtsPerMonth: finite(d.ratePtsPerMonth),
-        rateLowPtsPerMonth: finite(d.rateLowPtsPerMonth),
-        rateHighPtsPerMonth: finite(d.rateHighPtsPerMonth),
-        forecast:
-          f.status === 'forecast'
-            ? {
-                status: f.status,
-                at: iso(f.atMs),
-                earliest: iso(f.earliestMs),
-                latest: iso(f.latestMs),
-                text: 'forecast from the Theil-Sen line',
-              }
-            : f.status === 'reached'
-              ? { status: f.status, at: iso(f.atMs), earliest: null, latest: null, text: f.reason }
-              : { status: f.status, at: null, earliest: null, latest: null, text: f.text },
-      };
+      return driftAnswer(m.id, days, bands === undefined ? undefined : -bands.alarm);
     },
   );
 }

@@ -98,6 +98,51 @@ export type BaselineFitOutcome =
   | { readonly status: 'no-spec' | 'waiting-for-results' | 'taken-elsewhere' }
   | { readonly status: 'failed'; readonly code: string; readonly message: string };
 
+type BaselineSpec = ReturnType<typeof baselineSchema.parse>;
+
+/** Store a fitted baseline as the active one unless another instance stored one first (then undefined). */
+async function insertSpecBaseline(
+  db: Queryable,
+  machineId: number,
+  spec: BaselineSpec,
+  model: Baseline,
+  method: BaselineFitOptions['method'],
+  nowMs: number,
+): Promise<number | undefined> {
+  const fromMs = Date.parse(spec.reference.from);
+  const toMs = Date.parse(spec.reference.to);
+  const coefficients =
+    model.kind === 'polynomial' ? [...model.coefficients] : [model.bins[0]?.median ?? Number.NaN];
+  const ins = await db.query<{ id: number }>(
+    `INSERT INTO baselines (machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
+                            residual_std, r_squared, statistics, active, created_at, created_by)
+     VALUES ($1, $2, to_timestamp($3::float8 / 1000), to_timestamp($4::float8 / 1000), $5, $6, $7, $8, $9, $10, $11, true,
+             to_timestamp($12::float8 / 1000), 'system')
+     ON CONFLICT (machine_id) WHERE active DO NOTHING
+     RETURNING id::int`,
+    [
+      machineId,
+      spec.operatingPoint,
+      fromMs,
+      toMs,
+      coefficients,
+      model.xMin,
+      model.xMax,
+      model.n,
+      Number.isFinite(model.residualStd) ? model.residualStd : null,
+      Number.isFinite(model.r2) ? model.r2 : null,
+      JSON.stringify({
+        model,
+        method,
+        degree: spec.degree,
+        source: 'plant file reference period',
+      }),
+      nowMs,
+    ],
+  );
+  return ins.rows[0]?.id;
+}
+
 /**
  * Fit and store the baseline the plant file asks for, if the machine has none active. Waits until
  * a result exists at or after the reference period's end (the compute job has covered it). A fit
@@ -141,36 +186,7 @@ export async function fitBaselineFromSpec(
     if (error instanceof MonitorError) return { status: 'failed', code: error.code, message: error.message };
     throw error;
   }
-  const coefficients =
-    model.kind === 'polynomial' ? [...model.coefficients] : [model.bins[0]?.median ?? Number.NaN];
-  const ins = await db.query<{ id: number }>(
-    `INSERT INTO baselines (machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
-                            residual_std, r_squared, statistics, active, created_at, created_by)
-     VALUES ($1, $2, to_timestamp($3::float8 / 1000), to_timestamp($4::float8 / 1000), $5, $6, $7, $8, $9, $10, $11, true,
-             to_timestamp($12::float8 / 1000), 'system')
-     ON CONFLICT (machine_id) WHERE active DO NOTHING
-     RETURNING id::int`,
-    [
-      machineId,
-      spec.operatingPoint,
-      fromMs,
-      toMs,
-      coefficients,
-      model.xMin,
-      model.xMax,
-      model.n,
-      Number.isFinite(model.residualStd) ? model.residualStd : null,
-      Number.isFinite(model.r2) ? model.r2 : null,
-      JSON.stringify({
-        model,
-        method: options.method,
-        degree: spec.degree,
-        source: 'plant file reference period',
-      }),
-      nowMs,
-    ],
-  );
-  const id = ins.rows[0]?.id;
+  const id = await insertSpecBaseline(db, machineId, spec, model, options.method, nowMs);
   if (id === undefined) return { status: 'taken-elsewhere' };
   await appendAudit(db, {
     actor: 'system',
