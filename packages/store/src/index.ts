@@ -1,4 +1,5 @@
 export * from './audit.js';
+export * from './baselines.js';
 export * from './catalog.js';
 export * from './compression.js';
 export {

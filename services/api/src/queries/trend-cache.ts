@@ -10,8 +10,9 @@
  * 10 min for closed months, when recomputes and backfills are rare); concurrent requests for
  * the same month share one query. Ranges short enough for the live query never use the cache.
  */
+
+import type { BaselineRow } from '@isentrope/store';
 import type pg from 'pg';
-import type { BaselineRow } from './baselines.js';
 import { withoutJit } from './nojit.js';
 import type { TrendBucket } from './results.js';
 

@@ -1,11 +1,11 @@
 import { fitBaseline, MonitorError, type PolynomialBaseline } from '@isentrope/monitor';
+import { type BaselineRow, BASELINE_COLUMNS as COLS } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
 import { appendAudit, inTransaction } from '../audit.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam, isoTime, problemSchema } from '../http/schemas.js';
-import type { BaselineRow } from '../queries/baselines.js';
 import { type BandRow, getBands, machineOr404 } from '../queries/machines.js';
 
 const baselineSchema = z.object({
@@ -67,9 +67,6 @@ function bandsOut(b: BandRow): z.infer<typeof bandsSchema> {
     requireBeyondUncertainty: b.require_beyond_uncertainty,
   };
 }
-
-const COLS = `id::int, machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
-  residual_std, r_squared, statistics, active, created_at, created_by`;
 
 type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
 

@@ -1,4 +1,5 @@
 import { degradation } from '@isentrope/monitor';
+import { readActiveBaselineRow } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../app.js';
@@ -15,7 +16,6 @@ import {
   rangeQuery,
   resolveRange,
 } from '../http/schemas.js';
-import { activeBaseline } from '../queries/baselines.js';
 import { getBands, machineOr404 } from '../queries/machines.js';
 import { withoutJit } from '../queries/nojit.js';
 import {
@@ -162,7 +162,7 @@ async function buildTrend(
 ) {
   const m = await machineOr404(ctx.pool, id);
   const { fromMs, toMs } = resolveRange(range, ctx.now());
-  const baseline = await activeBaseline(ctx.pool, m.id);
+  const baseline = await readActiveBaselineRow(ctx.pool, m.id);
   const bands = await getBands(ctx.pool, m.id);
   const buckets =
     'buckets' in bucketsOrWindow
@@ -362,7 +362,7 @@ function driftRoute(app: App, ctx: ApiContext): void {
     async (request) => {
       const m = await machineOr404(ctx.pool, request.params.id);
       const { fromMs, toMs } = resolveRange(request.query, ctx.now(), 90 * 86_400_000);
-      const baseline = await activeBaseline(ctx.pool, m.id);
+      const baseline = await readActiveBaselineRow(ctx.pool, m.id);
       if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
       const bands = await getBands(ctx.pool, m.id);
       // Every UTC day with a stored drift counts here (the analysis job's rate asks 60 points a day).

@@ -15,7 +15,13 @@ import {
   type PolynomialBaseline,
 } from '@isentrope/monitor';
 import { baselineSchema } from '@isentrope/plant';
-import { appendAudit, type Queryable, USABLE_RESULT_SQL } from '@isentrope/store';
+import {
+  appendAudit,
+  type BaselineRow,
+  type Queryable,
+  readActiveBaselineRow,
+  USABLE_RESULT_SQL,
+} from '@isentrope/store';
 
 export interface StoredBaseline {
   readonly id: number;
@@ -27,27 +33,12 @@ export interface StoredBaseline {
   readonly referenceToMs: number;
 }
 
-interface BaselineDb {
-  id: number;
-  machine_id: number;
-  operating_point: StoredBaseline['operatingPoint'];
-  coefficients: number[];
-  x_min: number | null;
-  x_max: number | null;
-  n: number;
-  residual_std: number | null;
-  r_squared: number | null;
-  statistics: { model?: Baseline } & Record<string, unknown>;
-  from_ms: number;
-  to_ms: number;
-}
-
 /**
  * A baseline row written without the fitted model (coefficients only): the polynomial itself,
  * with no covariance (its uncertainty is then unknown and taken as 0; the row says so by having
  * no model).
  */
-function modelFromCoefficients(r: BaselineDb): PolynomialBaseline {
+function modelFromCoefficients(r: BaselineRow): PolynomialBaseline {
   const c = r.coefficients.length >= 2 ? r.coefficients : [r.coefficients[0] ?? Number.NaN, 0];
   const degree = Math.min(3, c.length - 1) as 1 | 2 | 3;
   const p = degree + 1;
@@ -71,16 +62,9 @@ export async function readActiveBaseline(
   db: Queryable,
   machineId: number,
 ): Promise<StoredBaseline | undefined> {
-  const res = await db.query<BaselineDb>(
-    `SELECT id::int, machine_id, operating_point, coefficients, x_min, x_max, n, residual_std, r_squared, statistics,
-            (extract(epoch FROM reference_from) * 1000)::float8 AS from_ms,
-            (extract(epoch FROM reference_to) * 1000)::float8 AS to_ms
-       FROM baselines WHERE machine_id = $1 AND active`,
-    [machineId],
-  );
-  const r = res.rows[0];
+  const r = await readActiveBaselineRow(db, machineId);
   if (r === undefined) return undefined;
-  const m = r.statistics.model;
+  const m = r.statistics.model as Baseline | undefined;
   const model =
     m !== undefined && (m.kind === 'polynomial' || m.kind === 'binned') ? m : modelFromCoefficients(r);
   return {
@@ -88,8 +72,8 @@ export async function readActiveBaseline(
     machineId: r.machine_id,
     operatingPoint: r.operating_point,
     model,
-    referenceFromMs: r.from_ms,
-    referenceToMs: r.to_ms,
+    referenceFromMs: r.reference_from.getTime(),
+    referenceToMs: r.reference_to.getTime(),
   };
 }
 
