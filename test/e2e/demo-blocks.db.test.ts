@@ -8,8 +8,9 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { type PreparedDemo, prepareDemo } from '@isentrope/demo';
-import { backfill, backfillAnalysis, gatherMonth, runGaugeAbsoluteOnce } from '@isentrope/jobs';
-import { packSamples, readSeries, readTrend } from '@isentrope/store';
+import { backfill, backfillAnalysis, runGaugeAbsoluteOnce } from '@isentrope/jobs';
+import { gatherMonth } from '@isentrope/monitor';
+import { monthlyFigures, packSamples, readSeries, readTrend } from '@isentrope/store';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildMonthlyReport } from '../../packages/monitor/src/report/monthly.js';
 import { listSamples, sampleTrend } from '../../services/api/src/queries/samples.js';
@@ -67,7 +68,7 @@ async function figures(db: TestDatabase, demo: PreparedDemo): Promise<Figures> {
   const gauge = await runGaugeAbsoluteOnce(db.pool, { nowMs: demo.historyEnd });
   await backfillAnalysis(db.pool, { nowMs: demo.historyEnd });
   const report = buildMonthlyReport(
-    await gatherMonth(db.pool, '2026-03', { nowMs: NOW, minPointsPerDay: 60 }),
+    await gatherMonth(monthlyFigures(db.pool), '2026-03', { generatedAtMs: NOW, minPointsPerDay: 60 }),
   );
   // The dashboard over a packed stretch (day 3 to 5) and a page of raw samples across the cutoff.
   const dashboard: unknown[] = [];

@@ -8,7 +8,9 @@ import { mkdtemp, rm } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { type PreparedDemo, prepareDemo, scriptedLoss } from '@isentrope/demo';
-import { backfill, backfillAnalysis, gatherMonth, runAlertsOnce } from '@isentrope/jobs';
+import { backfill, backfillAnalysis, runAlertsOnce } from '@isentrope/jobs';
+import { gatherMonth } from '@isentrope/monitor';
+import { monthlyFigures } from '@isentrope/store';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { buildMonthlyReport } from '../../packages/monitor/src/report/monthly.js';
 import { createTestDatabase, type TestDatabase } from '../support/database.js';
@@ -115,7 +117,7 @@ describe('demo plant, end to end over 14 days', () => {
 
   it('shows in the monthly export the degradation the scenario put into ac-1', async () => {
     const report = buildMonthlyReport(
-      await gatherMonth(db.pool, '2026-03', { nowMs: NOW, minPointsPerDay: 60 }),
+      await gatherMonth(monthlyFigures(db.pool), '2026-03', { generatedAtMs: NOW, minPointsPerDay: 60 }),
     );
     const ac1 = report.machines.find((m) => m.slug === 'ac-1');
     expect(ac1).toBeDefined();

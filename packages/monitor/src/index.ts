@@ -11,6 +11,7 @@
  * subclasses with a stable `code` (MONITOR_ERRORS). Show CAUTION beside every figure.
  */
 
+export * from './alert-states.js';
 export * from './alerts.js';
 export * from './align.js';
 export * from './bands.js';

@@ -3,18 +3,10 @@
  * synthetic machine whose true efficiency follows a known load curve and a known linear loss.
  * Not exported from the package entry.
  */
+import { mulberry32 } from '@isentrope/thermo';
 
-/** Seeded uniform generator on [0, 1) (mulberry32, a public-domain 32-bit mixer). */
-export function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4_294_967_296;
-  };
-}
+/** Seeded uniform generator on [0, 1): the thermo package's mulberry32. */
+export const seededRandom: (seed: number) => () => number = mulberry32;
 
 /** Standard normal draws by the Box-Muller transform from a uniform generator. */
 export function seededNormal(seed: number): () => number {

@@ -1,4 +1,5 @@
 export * from './audit.js';
+export * from './baselines.js';
 export * from './blocks/index.js';
 export * from './catalog.js';
 export * from './compression.js';
@@ -14,6 +15,7 @@ export * from './embedded.js';
 export * from './errors.js';
 export * from './ingest-records.js';
 export * from './migrate.js';
+export * from './monthly-figures.js';
 export * from './partitions.js';
 export * from './plant-config.js';
 export * from './quality.js';

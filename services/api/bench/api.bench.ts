@@ -47,16 +47,20 @@ async function seed(pool: pg.Pool, endMs: number): Promise<number[]> {
        VALUES ($1, 2, 4, 0, 0, 0, 0.5, 'high', true)`,
       [id],
     );
-    // One result per minute for a year: slow loss, daily load swing, noise (invented).
+    // One result per minute for a year: slow loss, daily load swing, noise (invented), with the
+    // baseline efficiency and drift the analysis job would store on each row (0.80 + 0.05 x).
     await pool.query(
-      `INSERT INTO results (machine_id, time, efficiency, u_efficiency, operating_point, power, specific_work, valid, steady)
-       SELECT $1, t,
-              0.82 - 0.02 * extract(epoch FROM t - $2::timestamptz) / 31536000 + 0.003 * (random() - 0.5),
-              0.004,
-              0.7 + 0.2 * sin(extract(epoch FROM t) / 86400 * 2 * pi()),
-              2e6, 2.1e5, random() > 0.02, true
-         FROM generate_series($2::timestamptz, $3::timestamptz - interval '1 minute', interval '1 minute') AS t`,
+      `INSERT INTO results (machine_id, time, efficiency, u_efficiency, operating_point, power, specific_work, valid, steady,
+                            baseline_efficiency, drift, analyzed_at)
+       SELECT $1, t, e, 0.004, x, 2e6, 2.1e5, random() > 0.02, true, 0.80 + 0.05 * x, 100 * (e - 0.80 - 0.05 * x), now()
+         FROM generate_series($2::timestamptz, $3::timestamptz - interval '1 minute', interval '1 minute') AS t,
+              LATERAL (SELECT 0.82 - 0.02 * extract(epoch FROM t - $2::timestamptz) / 31536000 + 0.003 * (random() - 0.5) AS e,
+                              0.7 + 0.2 * sin(extract(epoch FROM t) / 86400 * 2 * pi()) AS x) AS v`,
       [id, new Date(fromMs), new Date(endMs)],
+    );
+    await pool.query(
+      `INSERT INTO machine_status (machine_id, as_of, band_severity, caution) VALUES ($1, $2, 'normal', 'bench')`,
+      [id, new Date(endMs)],
     );
   }
   await pool.query('ANALYZE results');

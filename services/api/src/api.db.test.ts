@@ -3,6 +3,7 @@ import { createTestDatabase, type TestDatabase } from '../../../test/support/dat
 import type { ApiApp } from './app.js';
 import { buildTestApp } from './test-support/app.js';
 import {
+  analyseStored,
   createRoleTokens,
   insertAlert,
   insertComputedResult,
@@ -44,6 +45,11 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
         valid: i !== 5,
       })),
     );
+    await analyseStored(db.pool, t0 + 48 * HOUR, HOUR);
+    // The drift band's severity as the alert job stores it (the API shows it, it does not judge it).
+    await db.pool.query(`UPDATE machine_status SET band_severity = 'warning' WHERE machine_id = $1`, [
+      plant.compressorId,
+    ]);
     app = await buildTestApp(db.pool, { now: () => t0 + 48 * HOUR });
   });
   afterAll(async () => {
@@ -92,6 +98,7 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
       items: {
         id: number;
         band: string;
+        state: { key: string; label: string };
         current: { efficiency: number; driftPts: number; baseline: number; n: number } | null;
         health: { results: number; valid: number };
       }[];
@@ -102,12 +109,14 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
     expect(ac.current?.baseline).toBeCloseTo(0.84, 12);
     expect(ac.current?.driftPts).toBeCloseTo(-2, 9);
     expect(ac.band).toBe('warning');
+    expect(ac.state).toMatchObject({ key: 'warning', label: 'warning' });
     // The hour before the newest valid result holds that result only (results are hourly, window (t-1h, t]).
     expect(ac.current?.n).toBe(1);
     expect(ac.health.results).toBe(23); // results at t0+25h..t0+47h lie in (now - 24 h, now]
     const st = items.find((m) => m.id === plant.turbineId)!;
     expect(st.current).toBeNull();
     expect(st.band).toBe('unknown');
+    expect(st.state).toMatchObject({ key: 'no-data', label: 'no valid result' });
   });
 
   it('fleet: open alerts counted apart for drift and instruments; a returned-to-normal one is not open', async () => {
@@ -178,6 +187,7 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
         valid: i % 13 !== 0,
       })),
     );
+    await analyseStored(db.pool, start + 40 * 86_400_000, 600_000);
     const from = new Date(start).toISOString();
     const to = new Date(start + 40 * 86_400_000).toISOString();
     const long = await app.inject({
@@ -198,15 +208,7 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
     }>();
     expect(body.bucketMs).toBe(12 * HOUR);
     const { resultTrend } = await import('./queries/results.js');
-    const { activeBaseline } = await import('./queries/baselines.js');
-    const live = await resultTrend(
-      db.pool,
-      m,
-      start,
-      start + 40 * 86_400_000,
-      80,
-      await activeBaseline(db.pool, m),
-    );
+    const live = await resultTrend(db.pool, m, start, start + 40 * 86_400_000, 80);
     expect(body.buckets.length).toBe(live.buckets.length);
     body.buckets.forEach((b, i) => {
       const l = live.buckets[i]!;
@@ -312,6 +314,7 @@ describe('API with roles, problems, pagination, ETags and audit', () => {
         operatingPoint: 1,
       })),
     );
+    await analyseStored(db.pool, d0 + 30 * 86_400_000, HOUR);
     const r = await app.inject({
       method: 'GET',
       url: `/api/machines/${m}/drift?from=${new Date(d0).toISOString()}&to=${new Date(d0 + 30 * 86_400_000).toISOString()}`,

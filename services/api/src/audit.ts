@@ -1,4 +1,4 @@
-import type pg from 'pg';
+import type { Queryable } from '@isentrope/store';
 import type { Principal } from './auth/roles.js';
 
 export interface AuditEntry {
@@ -10,8 +10,6 @@ export interface AuditEntry {
   readonly before?: unknown;
   readonly after?: unknown;
 }
-
-type Queryable = Pick<pg.Pool | pg.PoolClient, 'query'>;
 
 function actorName(actor: Principal | string): string {
   if (typeof actor === 'string') return actor;

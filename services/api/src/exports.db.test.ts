@@ -1,11 +1,12 @@
 // Expected figures: hand calculations from the export's definitions over invented seeded rows (common practice, no source).
-import { buildMonthlyReport, CAUTION } from '@isentrope/monitor';
+import { buildMonthlyReport, CAUTION, gatherMonth } from '@isentrope/monitor';
+import { monthlyFigures } from '@isentrope/store';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../test/support/database.js';
 import type { ApiApp } from './app.js';
-import { gatherMonthlyInput } from './queries/monthly.js';
-import { buildTestApp } from './test-support/app.js';
+import { buildTestApp, postExport } from './test-support/app.js';
 import {
+  analyseStored,
   createToken,
   createUser,
   insertResults,
@@ -71,6 +72,7 @@ describe('monthly degradation export against the stored results', () => {
         power: 1e7,
       })),
     );
+    await analyseStored(db.pool, Date.UTC(2026, 3, 1), HOUR);
     app = await buildTestApp(db.pool, { energyPrice: { perMWh: 90, currency: 'EUR' } });
   });
   afterAll(async () => {
@@ -95,10 +97,11 @@ describe('monthly degradation export against the stored results', () => {
 
   it('gathers and builds figures equal to the stored results', async () => {
     const report = buildMonthlyReport(
-      await gatherMonthlyInput(db.pool, '2026-03', {
+      await gatherMonth(monthlyFigures(db.pool), '2026-03', {
         timeZone: 'UTC',
         price: { perMWh: 90, currency: 'EUR' },
         generatedAtMs: 0,
+        minPointsPerDay: 20, // hourly rows: 23 or 24 a day
       }),
     );
     const ac = report.machines.find((m) => m.machineId === plant.compressorId)!;
@@ -126,12 +129,7 @@ describe('monthly degradation export against the stored results', () => {
   });
 
   it('makes the CSV through the API, with the same figures, and serves it for download', async () => {
-    const made = await app.inject({
-      method: 'POST',
-      url: '/api/exports',
-      headers: { authorization: `Bearer ${token}` },
-      payload: { month: '2026-03', format: 'csv' },
-    });
+    const made = await postExport(app, token, { month: '2026-03', format: 'csv' });
     expect(made.statusCode).toBe(201);
     const x = made.json<{ id: number; download: string; checksum: string }>();
     const dl = await app.inject({
@@ -167,12 +165,7 @@ describe('monthly degradation export against the stored results', () => {
 
   it('makes the printable HTML and the JSON; lists exports newest first', async () => {
     for (const format of ['html', 'json'] as const) {
-      const made = await app.inject({
-        method: 'POST',
-        url: '/api/exports',
-        headers: { authorization: `Bearer ${token}` },
-        payload: { month: '2026-03', format },
-      });
+      const made = await postExport(app, token, { month: '2026-03', format });
       expect(made.statusCode).toBe(201);
       const dl = await app.inject({
         method: 'GET',
@@ -193,7 +186,12 @@ describe('monthly degradation export against the stored results', () => {
   });
 
   it('daily drift for the rate is taken from the stored days', async () => {
-    const input = await gatherMonthlyInput(db.pool, '2026-03', { timeZone: 'UTC', rateWindowDays: 31 });
+    const input = await gatherMonth(monthlyFigures(db.pool), '2026-03', {
+      timeZone: 'UTC',
+      rateWindowDays: 31,
+      minPointsPerDay: 20,
+      generatedAtMs: 0,
+    });
     const ac = input.machines.find((m) => m.machineId === plant.compressorId)!;
     expect(ac.dailyDrift.t.length).toBe(31);
     // Day 0 of March: mean of effAt(0..23) except i = 7, minus 0.84, in points.
@@ -246,6 +244,7 @@ describe('monthly export in the site time zone, through the API', () => {
       pumpId,
       rows.map((r) => ({ ...r, operatingPoint: 1, power: 1e6 })),
     );
+    await analyseStored(db.pool, Date.UTC(2026, 3, 2), HOUR);
     token = await createToken(db.pool, await createUser(db.pool, 'planner', 'engineer', 'planner-password'));
     app = await buildTestApp(db.pool);
   });
@@ -303,9 +302,22 @@ describe('monthly export in the site time zone, through the API', () => {
     // 00:30 on 1 March and 23:30 on 31 March, local: (0.6 + 0.7) / 2 (arithmetic).
     expect(json.machines[0]!.resultsTotal).toBe(2);
     expect(json.machines[0]!.meanEfficiency).toBeCloseTo(0.65, 12);
-    // Local days of the 90-day rate window, which reaches back before the month: 28 February,
-    // 1 March and 31 March, at 100 (0.5 - 0.7), 100 (0.6 - 0.7) and 100 (0.7 - 0.7) points.
-    const days = json.machines[0]!.days;
+    // Each local day holds one result, fewer than the 60 a day needs to count in the rate (the
+    // monthly job's default too): no days.
+    expect(json.machines[0]!.days).toEqual([]);
+  });
+
+  it('local days of the 90-day rate window, which reaches back before the month, with one point a day allowed', async () => {
+    const report = buildMonthlyReport(
+      await gatherMonth(monthlyFigures(db.pool), '2026-03', {
+        timeZone: 'Europe/Berlin',
+        machineIds: [pumpId],
+        minPointsPerDay: 1,
+        generatedAtMs: 0,
+      }),
+    );
+    // 28 February, 1 March and 31 March, at 100 (0.5 - 0.7), 100 (0.6 - 0.7) and 100 (0.7 - 0.7) points (arithmetic).
+    const days = report.machines[0]!.days;
     expect(days.map((d) => d.date)).toEqual(['2026-02-28', '2026-03-01', '2026-03-31']);
     expect(days.map((d) => d.driftPts)).toEqual([
       expect.closeTo(-20, 9),
@@ -315,10 +327,12 @@ describe('monthly export in the site time zone, through the API', () => {
   });
 
   it('daily drift days are local: mid-points of 1 March (24 h) and 31 March (CEST)', async () => {
-    const input = await gatherMonthlyInput(db.pool, '2026-03', {
+    const input = await gatherMonth(monthlyFigures(db.pool), '2026-03', {
       timeZone: 'Europe/Berlin',
       machineIds: [pumpId],
       rateWindowDays: 31,
+      minPointsPerDay: 1,
+      generatedAtMs: 0,
     });
     // 1 March: 28 Feb 23:00 to 1 Mar 23:00 UTC; 31 March: 30 Mar 22:00 to 31 Mar 22:00 UTC.
     expect(input.machines[0]!.dailyDrift.t).toEqual([Date.UTC(2026, 2, 1, 11), Date.UTC(2026, 2, 31, 10)]);

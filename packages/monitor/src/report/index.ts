@@ -1,2 +1,3 @@
+export * from './gather.js';
 export * from './monthly.js';
 export * from './render.js';

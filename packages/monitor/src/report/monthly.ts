@@ -16,8 +16,8 @@
  * A result better than its baseline gives a negative term (energy gained); the sum keeps the sign.
  * P is the machine's power [W] (magnitude); 1 MWh = 3.6e9 J.
  *
- * Pure: the caller gathers the results (services/api/src/queries/monthly.ts) and renders the report
- * (./render.ts).
+ * Pure: ./gather.ts gathers the stored results (the one gatherer of the export endpoint and the
+ * monthly job) and ./render.ts renders the report.
  */
 import { CAUTION } from '../caution.js';
 import { degradation } from '../degradation.js';

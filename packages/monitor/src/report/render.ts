@@ -261,3 +261,14 @@ ${sections}
 </body></html>
 `;
 }
+
+export type ReportFormat = 'csv' | 'json' | 'html';
+
+/** The report rendered in one of its formats (the export endpoint and the monthly job both call this). */
+export function renderReport(report: MonthlyReport, format: ReportFormat): string {
+  return format === 'csv'
+    ? renderReportCsv(report)
+    : format === 'json'
+      ? renderReportJson(report)
+      : renderReportHtml(report);
+}

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { BadInputError, OutOfRangeError } from '../errors.js';
+import { mulberry32 } from '../uncertainty/monte-carlo.js';
 import {
   enthalpyPS,
   enthalpyPT,
@@ -17,21 +18,9 @@ import {
   waterPT,
 } from './index.js';
 
-/** A fixed-seed generator (mulberry32) so every run checks the same states. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
 /** Random valid (p [Pa], T [K]) over the whole formulation, log-uniform in p. */
 function randomStates(n: number, seed: number): [number, number][] {
-  const r = rng(seed);
+  const r = mulberry32(seed); // fixed seed: every run checks the same states
   const out: [number, number][] = [];
   while (out.length < n) {
     const T = 273.16 + r() * (2273.15 - 273.16);

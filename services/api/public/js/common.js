@@ -128,3 +128,10 @@ export function pressureText(pa) {
   if (a >= 1e3) return `${(pa / 100).toFixed(1)} mbar`;
   return `${pa.toFixed(0)} Pa`;
 }
+
+/** "1 drift alert, 2 instrument alerts" from a fleet item's counts. */
+export function openAlertsText(m) {
+  const by = m.openAlertsByCategory ?? { drift: m.openAlerts, instrument: 0 };
+  const part = (n, what) => (n > 0 ? `${n} ${what} alert${n > 1 ? 's' : ''}` : null);
+  return [part(by.drift, 'drift'), part(by.instrument, 'instrument')].filter((x) => x !== null).join(', ');
+}

@@ -1,5 +1,4 @@
-import { api, el, frame, pct, power, signed, when } from './common.js';
-import { machineState, openAlertsText } from './state.js';
+import { api, el, frame, openAlertsText, pct, power, signed, when } from './common.js';
 
 /** Which efficiency is trended per machine kind (see services/jobs compute: pumps and fans with a power tag use it). */
 const EFFICIENCY_KIND = {
@@ -19,9 +18,10 @@ const STATE_CLASS = {
   'out-of-service': 'state-stale',
 };
 
-function card(m, generatedAt) {
+function card(m) {
   const c = m.current;
-  const state = machineState(m, generatedAt);
+  // The API sends the state (band, or why it says nothing about today); the page only shows it.
+  const state = m.state;
   const health = m.health;
   const share =
     health.validShare === null
@@ -68,7 +68,7 @@ async function load() {
   const grid = document.getElementById('fleet');
   try {
     const fleet = await api('/api/fleet');
-    grid.replaceChildren(...fleet.items.map((m) => card(m, fleet.generatedAt)));
+    grid.replaceChildren(...fleet.items.map((m) => card(m)));
     if (fleet.items.length === 0)
       grid.replaceChildren(el('p', { class: 'sub', text: 'No machines configured yet.' }));
     grid.dataset.loaded = 'true';

@@ -1,8 +1,19 @@
 import uPlot from '/vendor/uplot/uPlot.esm.js';
-import { age, api, el, frame, num, pct, power, pressureText, signed, when } from './common.js';
+import {
+  age,
+  api,
+  el,
+  frame,
+  num,
+  openAlertsText,
+  pct,
+  power,
+  pressureText,
+  signed,
+  when,
+} from './common.js';
 import { evidenceOf, handledText, messageOf, STATE_WORDS } from './evidence.js';
 import { hsChart } from './hs-chart.js';
-import { machineState, openAlertsText } from './state.js';
 
 const DAY = 86_400_000;
 const params = new URLSearchParams(location.search);
@@ -49,8 +60,8 @@ async function header(id) {
   document.getElementById('title').textContent = machine.name;
   document.title = `${machine.name} · Isentrope`;
   const c = f?.current ?? null;
-  const state =
-    f === undefined ? { key: 'unknown', label: '–', detail: '' } : machineState(f, fleet.generatedAt);
+  // The API sends the state; the page only shows it.
+  const state = f?.state ?? { key: 'unknown', label: '–', detail: '' };
   const k = document.getElementById('kpis');
   const u = c?.uEfficiency;
   k.replaceChildren(

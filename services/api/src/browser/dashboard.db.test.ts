@@ -8,6 +8,7 @@ import { createTestDatabase, type TestDatabase } from '../../../../test/support/
 import type { ApiApp } from '../app.js';
 import { buildTestApp } from '../test-support/app.js';
 import {
+  analyseStored,
   createUser,
   insertAlert,
   insertComputedResult,
@@ -122,6 +123,8 @@ describe('dashboard in Chromium', () => {
     await db.pool.query(
       `INSERT INTO quarantine (source, line, column_name, reason, raw) VALUES ('csv:north', 17, 'ST1.PI-100', 'not a number: "n/a"', '2026-03-01T00:00:00Z,n/a')`,
     );
+    // The analysis job stores the drift series the pages show (baseline and drift per result).
+    await analyseStored(db.pool, now, HOUR);
     app = await buildTestApp(db.pool);
     base = await app.listen({ port: 0, host: '127.0.0.1' });
     configDir = mkdtempSync(join(tmpdir(), 'isentrope-chromium-'));
@@ -170,6 +173,10 @@ describe('dashboard in Chromium', () => {
       (100 * turbine.isentropicEfficiency!).toFixed(1),
     );
     expect(await page.locator('#caution').textContent()).toBe(CAUTION);
+    // Drift and baseline as the analysis job stored them: the computed result against 0.86.
+    expect(await card.locator('[data-field="drift"]').textContent()).toBe(
+      `−${(100 * (0.86 - turbine.isentropicEfficiency!)).toFixed(2)} points against baseline 86.0 %`,
+    );
     expect(await card.locator('[data-field="alerts"]').textContent()).toBe('1 drift alert');
     // A machine whose figures are days old says so instead of showing a band.
     const stale = page.locator(`[data-machine="${compressorId}"]`);

@@ -28,6 +28,8 @@ export interface FleetRow {
   last_flags: string[] | null;
   warning: number | null;
   alarm: number | null;
+  /** The drift band's severity as the alert job last stepped it (packages/monitor stepBand), null before its first pass. */
+  band_severity: 'normal' | 'warning' | 'alarm' | null;
   open_alerts: number;
   open_drift: number;
   open_instrument: number;
@@ -35,9 +37,11 @@ export interface FleetRow {
 }
 
 /**
- * One row per machine for the fleet page: the mean efficiency over the hour before its newest
- * valid result, the baseline and drift over the same results (baseline evaluated per result),
- * data health over the last day, open alerts (drift and instrument apart) and bands. One statement, one round trip.
+ * One row per machine for the fleet page: the means over the hour before its newest valid result
+ * of the stored figures (efficiency, and the baseline efficiency and drift the analysis job wrote
+ * onto each row), the drift band's severity the alert job stored (machine_status), data health
+ * over the last day, open alerts (drift and instrument apart) and bands. Nothing is derived
+ * again here. One statement, one round trip.
  */
 export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[]> {
   const { rows } = await withoutJit(pool, (client) =>
@@ -46,13 +50,14 @@ export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[
             lr.time AS last_time, lv.time AS last_valid_time,
             cur.eff, cur.u_eff, coalesce(cur.n, 0) AS n_current, cur.x, cur.power, cur.baseline, cur.drift,
             coalesce(h.n, 0) AS n_health, coalesce(h.n_valid, 0) AS n_health_valid, lr.flags AS last_flags,
-            bd.warning, bd.alarm,
+            bd.warning, bd.alarm, ms.band_severity,
             oa.n AS open_alerts, oa.drift AS open_drift, oa.instrument AS open_instrument,
             b.id::int AS baseline_id
        FROM machines m
        JOIN sites s ON s.id = m.site_id
        LEFT JOIN baselines b ON b.machine_id = m.id AND b.active
        LEFT JOIN bands bd ON bd.machine_id = m.id
+       LEFT JOIN machine_status ms ON ms.machine_id = m.id
        CROSS JOIN LATERAL (
          SELECT count(*)::int AS n,
                 count(*) FILTER (WHERE a.category = 'drift')::int AS drift,
@@ -67,14 +72,9 @@ export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[
                 count(r.efficiency)::int AS n,
                 avg(r.operating_point) AS x,
                 avg(r.power) AS power,
-                avg(bx.v) AS baseline,
-                100 * avg(r.efficiency - bx.v) AS drift
+                avg(r.baseline_efficiency) AS baseline,
+                avg(r.drift) AS drift
            FROM results r
-           CROSS JOIN LATERAL (
-             SELECT CASE WHEN b.id IS NOT NULL AND cardinality(b.coefficients) BETWEEN 1 AND 4 THEN
-                      coalesce(b.coefficients[1], 0) + coalesce(b.coefficients[2], 0) * r.operating_point
-                      + coalesce(b.coefficients[3], 0) * r.operating_point ^ 2
-                      + coalesce(b.coefficients[4], 0) * r.operating_point ^ 3 END AS v) bx
           WHERE r.machine_id = m.id AND r.valid AND lv.time IS NOT NULL
             AND r.time > lv.time - make_interval(secs => $1::float8 / 1000) AND r.time <= lv.time
        ) cur ON true
@@ -87,14 +87,4 @@ export async function fleetRows(pool: pg.Pool, nowMs: number): Promise<FleetRow[
     ),
   );
   return rows;
-}
-
-export type BandState = 'normal' | 'warning' | 'alarm' | 'unknown';
-
-/** Where a drift [%-points, negative = loss] lies against the bands (levels are positive losses). */
-export function bandState(driftPts: number | null, warning: number | null, alarm: number | null): BandState {
-  if (driftPts === null || !Number.isFinite(driftPts) || alarm === null) return 'unknown';
-  if (driftPts <= -alarm) return 'alarm';
-  if (warning !== null && driftPts <= -warning) return 'warning';
-  return 'normal';
 }

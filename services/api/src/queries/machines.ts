@@ -1,4 +1,5 @@
 import type pg from 'pg';
+import { ApiError } from '../errors.js';
 
 export interface SiteRow {
   id: number;
@@ -47,6 +48,13 @@ export async function getMachine(pool: pg.Pool, id: number): Promise<MachineRow 
     [id],
   );
   return rows[0];
+}
+
+/** The machine, or the API's 404 problem when there is none with that id. */
+export async function machineOr404(pool: pg.Pool, id: number): Promise<MachineRow> {
+  const m = await getMachine(pool, id);
+  if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
+  return m;
 }
 
 export interface TagRow {

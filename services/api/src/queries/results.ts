@@ -1,5 +1,5 @@
+import { readDailyDriftMeans } from '@isentrope/store';
 import type pg from 'pg';
-import { type BaselineRow, sqlCoefficients } from './baselines.js';
 import { withoutJit } from './nojit.js';
 
 export interface ResultRow {
@@ -93,9 +93,9 @@ export interface TrendBucket {
 
 /**
  * Downsampled results over [from, to): `buckets` equal buckets, min/mean/max per bucket, computed
- * in PostgreSQL so that a year of minute results answers in one aggregate scan. The baseline is
- * evaluated per result in SQL (a polynomial of degree <= 3 in the raw operating point) so the
- * drift mean is exact, not the baseline at the mean operating point.
+ * in PostgreSQL so that a year of minute results answers in one aggregate scan. Baseline and drift
+ * are the means of what the analysis job stored on each row (its baseline at the row's operating
+ * point), so the drift mean is exact, not the baseline at the mean operating point.
  */
 export async function resultTrend(
   pool: pg.Pool,
@@ -103,11 +103,8 @@ export async function resultTrend(
   fromMs: number,
   toMs: number,
   buckets: number,
-  baseline: BaselineRow | undefined,
 ): Promise<{ widthMs: number; buckets: TrendBucket[] }> {
   const widthMs = Math.max(1000, Math.ceil((toMs - fromMs) / buckets));
-  const c = sqlCoefficients(baseline);
-  const base = `($6::float8 + $7::float8 * operating_point + $8::float8 * operating_point ^ 2 + $9::float8 * operating_point ^ 3)`;
   const { rows } = await withoutJit(pool, (client) =>
     client.query<{
       b: number;
@@ -133,8 +130,8 @@ export async function resultTrend(
             min(efficiency) FILTER (WHERE valid) AS eff_min,
             max(efficiency) FILTER (WHERE valid) AS eff_max,
             sqrt(avg(u_efficiency * u_efficiency) FILTER (WHERE valid)) AS u_eff,
-            CASE WHEN $5 THEN avg(${base}) FILTER (WHERE valid AND efficiency IS NOT NULL) END AS baseline,
-            CASE WHEN $5 THEN 100 * avg(efficiency - ${base}) FILTER (WHERE valid) END AS drift,
+            avg(baseline_efficiency) FILTER (WHERE valid AND efficiency IS NOT NULL) AS baseline,
+            avg(drift) FILTER (WHERE valid) AS drift,
             avg(specific_work) FILTER (WHERE valid) AS w,
             avg(power) FILTER (WHERE valid) AS p,
             min(power) FILTER (WHERE valid) AS p_min,
@@ -144,7 +141,7 @@ export async function resultTrend(
        FROM results
       WHERE machine_id = $1 AND time >= to_timestamp($2::float8 / 1000) AND time < to_timestamp($3::float8 / 1000)
       GROUP BY 1 ORDER BY 1`,
-      [machineId, fromMs, toMs, widthMs, c !== undefined, ...(c ?? [0, 0, 0, 0])],
+      [machineId, fromMs, toMs, widthMs],
     ),
   );
   return {
@@ -169,6 +166,8 @@ export async function resultTrend(
   };
 }
 
+const DAY_MS = 86_400_000;
+
 export interface DailyDrift {
   /** Day mid-point [ms]. */
   t: number;
@@ -176,24 +175,23 @@ export interface DailyDrift {
   n: number;
 }
 
-/** Daily means of the drift (valid, steady results) in [from, to), for the Theil-Sen rate. */
+/**
+ * Daily means of the stored drift over usable results (steady, valid, fault-free) on the UTC days
+ * of [from, to), days with at least minPoints, for the Theil-Sen rate: the store's reader, on UTC
+ * day bounds.
+ */
 export async function dailyDrift(
   pool: Pick<pg.Pool, 'query'>,
   machineId: number,
   fromMs: number,
   toMs: number,
-  baseline: BaselineRow,
+  minPoints: number,
 ): Promise<DailyDrift[]> {
-  const c = sqlCoefficients(baseline);
-  if (c === undefined) return [];
-  const { rows } = await pool.query<{ day: Date; drift: number; n: number }>(
-    `SELECT date_trunc('day', time, 'UTC') AS day,
-            100 * avg(efficiency - ($4::float8 + $5::float8 * operating_point + $6::float8 * operating_point ^ 2 + $7::float8 * operating_point ^ 3)) AS drift,
-            count(*)::int AS n
-       FROM results
-      WHERE machine_id = $1 AND time >= $2 AND time < $3 AND valid AND efficiency IS NOT NULL AND operating_point IS NOT NULL
-      GROUP BY 1 ORDER BY 1`,
-    [machineId, new Date(fromMs), new Date(toMs), ...c],
-  );
-  return rows.map((r) => ({ t: r.day.getTime() + 43_200_000, driftPts: r.drift, n: r.n }));
+  const first = Math.floor(fromMs / DAY_MS) * DAY_MS;
+  const days = Array.from({ length: Math.max(0, Math.ceil((toMs - first) / DAY_MS)) }, (_, i) => ({
+    fromMs: first + i * DAY_MS,
+    toMs: first + (i + 1) * DAY_MS,
+  }));
+  const d = await readDailyDriftMeans(pool, machineId, days, minPoints);
+  return d.t.map((t, i) => ({ t, driftPts: d.driftPts[i] as number, n: d.n[i] as number }));
 }

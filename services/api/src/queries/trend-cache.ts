@@ -1,5 +1,6 @@
 /**
- * Hourly partial aggregates of results, cached per machine, baseline and calendar month, so a
+ * Hourly partial aggregates of results (with the baseline and drift the analysis job stored on
+ * each row), cached per machine, active baseline and calendar month, so a
  * trend over months or a year is merged from at most ~8800 hourly rows instead of aggregating
  * half a million minute results on every request (measured 4 s per one-year request on
  * PostgreSQL 15, services/api/bench/api.bench.ts). Sums and counts are kept per figure, so
@@ -9,8 +10,9 @@
  * 10 min for closed months, when recomputes and backfills are rare); concurrent requests for
  * the same month share one query. Ranges short enough for the live query never use the cache.
  */
+
+import type { BaselineRow } from '@isentrope/store';
 import type pg from 'pg';
-import { type BaselineRow, sqlCoefficients } from './baselines.js';
 import { withoutJit } from './nojit.js';
 import type { TrendBucket } from './results.js';
 
@@ -72,10 +74,7 @@ async function queryMonth(
   machineId: number,
   fromMs: number,
   toMs: number,
-  baseline: BaselineRow | undefined,
 ): Promise<HourAggregate[]> {
-  const c = sqlCoefficients(baseline);
-  const base = `($5::float8 + $6::float8 * operating_point + $7::float8 * operating_point ^ 2 + $8::float8 * operating_point ^ 3)`;
   const f = (col: string) =>
     `sum(${col}) FILTER (WHERE valid) AS s_${col.replace(/\W/g, '')}, count(${col}) FILTER (WHERE valid)::int AS n_${col.replace(/\W/g, '')}`;
   const { rows } = await withoutJit(pool, (client) =>
@@ -83,15 +82,14 @@ async function queryMonth(
       `SELECT date_trunc('hour', time) AS h, count(*)::int AS n, count(*) FILTER (WHERE valid)::int AS n_valid,
               ${f('efficiency')}, min(efficiency) FILTER (WHERE valid) AS min_eff, max(efficiency) FILTER (WHERE valid) AS max_eff,
               sum(u_efficiency * u_efficiency) FILTER (WHERE valid) AS s_u2, count(u_efficiency) FILTER (WHERE valid)::int AS n_u,
-              CASE WHEN $4 THEN sum(${base}) FILTER (WHERE valid AND efficiency IS NOT NULL) END AS s_base,
-              CASE WHEN $4 THEN count(${base}) FILTER (WHERE valid AND efficiency IS NOT NULL)::int ELSE 0 END AS n_base,
-              CASE WHEN $4 THEN sum(efficiency - ${base}) FILTER (WHERE valid) END AS s_drift,
-              CASE WHEN $4 THEN count(efficiency - ${base}) FILTER (WHERE valid)::int ELSE 0 END AS n_drift,
+              sum(baseline_efficiency) FILTER (WHERE valid AND efficiency IS NOT NULL) AS s_base,
+              count(baseline_efficiency) FILTER (WHERE valid AND efficiency IS NOT NULL)::int AS n_base,
+              ${f('drift')},
               ${f('specific_work')}, ${f('power')}, min(power) FILTER (WHERE valid) AS min_p, max(power) FILTER (WHERE valid) AS max_p,
               ${f('operating_point')}, ${f('entropy_generation')}
          FROM results WHERE machine_id = $1 AND time >= $2 AND time < $3
         GROUP BY 1 ORDER BY 1`,
-      [machineId, new Date(fromMs), new Date(toMs), c !== undefined, ...(c ?? [0, 0, 0, 0])],
+      [machineId, new Date(fromMs), new Date(toMs)],
     ),
   );
   return rows.map((r) => ({
@@ -152,7 +150,7 @@ export class TrendCache {
     const ttl = start === monthStart(now) ? this.currentTtl : this.closedTtl;
     const hit = this.entries.get(key);
     if (hit !== undefined && now - hit.at < ttl) return hit.hours;
-    const hours = queryMonth(this.pool, machineId, start, nextMonth(start), baseline);
+    const hours = queryMonth(this.pool, machineId, start, nextMonth(start));
     // A failed query is not kept.
     hours.catch(() => this.entries.delete(key));
     this.entries.delete(key);
@@ -222,7 +220,7 @@ export class TrendCache {
         efficiencyMax: a.maxEff,
         uEfficiency: a.nU > 0 ? Math.sqrt(a.sU2 / a.nU) : null,
         baseline: mean(a.sBase, a.nBase),
-        driftPts: a.nDrift > 0 ? (100 * a.sDrift) / a.nDrift : null,
+        driftPts: mean(a.sDrift, a.nDrift),
         specificWorkMean: mean(a.sW, a.nW),
         powerMean: mean(a.sP, a.nP),
         powerMin: a.minP,

@@ -1,7 +1,15 @@
-import { type AlertEvent, type AlertState, type AlertStatus, stepAlert } from '@isentrope/monitor';
+import {
+  type AlertEvent,
+  initialAlert,
+  STATUS_TO_STORED,
+  STORED_ALERT_STATES,
+  stepAlert,
+  storedAlertState,
+} from '@isentrope/monitor';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import { appendAudit, inTransaction } from '../audit.js';
+import type { Principal } from '../auth/roles.js';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import {
@@ -16,34 +24,6 @@ import {
   problemSchema,
 } from '../http/schemas.js';
 
-/** Stored alert states (migrations/0003) and the lifecycle reducer's statuses (packages/monitor/src/alerts.ts). */
-const DB_TO_STATUS: Readonly<Record<string, AlertStatus>> = {
-  normal: 'normal',
-  active_unacknowledged: 'active-unack',
-  active_acknowledged: 'active-ack',
-  returned_unacknowledged: 'rtn-unack',
-  shelved: 'shelved',
-  out_of_service: 'out-of-service',
-};
-const STATUS_TO_DB: Readonly<Record<AlertStatus, string>> = {
-  normal: 'normal',
-  'active-unack': 'active_unacknowledged',
-  'active-ack': 'active_acknowledged',
-  'rtn-unack': 'returned_unacknowledged',
-  shelved: 'shelved',
-  'out-of-service': 'out_of_service',
-};
-
-const STATES = [
-  'normal',
-  'active_unacknowledged',
-  'active_acknowledged',
-  'returned_unacknowledged',
-  'shelved',
-  'suppressed',
-  'out_of_service',
-] as const;
-
 interface AlertRow {
   id: number;
   machine_id: number;
@@ -52,7 +32,7 @@ interface AlertRow {
   tag_id: number | null;
   level: 'warning' | 'alarm';
   severity: 'low' | 'medium' | 'high' | 'urgent';
-  state: (typeof STATES)[number];
+  state: (typeof STORED_ALERT_STATES)[number];
   message: string;
   evidence: Record<string, unknown>;
   raised_at: Date;
@@ -72,7 +52,7 @@ const alertSchema = z.object({
   tagId: z.number().int().nullable(),
   level: z.enum(['warning', 'alarm']),
   severity: z.enum(['low', 'medium', 'high', 'urgent']),
-  state: z.enum(STATES),
+  state: z.enum(STORED_ALERT_STATES),
   message: z.string(),
   evidence: z.record(z.string(), z.unknown()),
   raisedAt: z.string(),
@@ -107,32 +87,124 @@ function alertOut(a: AlertRow): z.infer<typeof alertSchema> {
 const COLS = `a.id::int, a.machine_id, m.name AS machine_name, a.category, a.tag_id, a.level, a.severity, a.state, a.message,
   a.evidence, a.raised_at, a.acknowledged_at, a.acknowledged_by, a.shelved_until, a.shelved_by, a.cleared_at, a.updated_at`;
 
-/**
- * The reducer's state from a stored row. Whether the condition is still active: true in the active
- * states, false once returned or cleared; while shelved or out of service, active unless cleared_at
- * is set (the alert job sets it when the condition returns).
- */
-function toState(a: AlertRow): AlertState {
-  const status = DB_TO_STATUS[a.state] ?? 'normal';
-  const conditionActive =
-    status === 'active-unack' || status === 'active-ack'
-      ? true
-      : status === 'rtn-unack' || status === 'normal'
-        ? false
-        : a.cleared_at === null;
-  return {
-    type: a.category === 'instrument' ? 'instrument-fault' : 'drift',
-    status,
-    conditionActive,
-    severity: a.level,
-    ...(a.shelved_until !== null ? { shelvedUntil: a.shelved_until.getTime() } : {}),
-    ...(a.shelved_by !== null ? { shelvedBy: a.shelved_by } : {}),
-  };
-}
-
 const actionBody = z.object({ note: z.string().max(2000).optional() });
 
-export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+const eventSchema = z.object({
+  time: z.string(),
+  fromState: z.string().nullable(),
+  toState: z.string(),
+  actor: z.string(),
+  note: z.string().nullable(),
+});
+
+type Client = Parameters<Parameters<typeof inTransaction>[1]>[0];
+type AlertOut = z.infer<typeof alertSchema>;
+
+async function alertById(
+  db: Pick<Client, 'query'>,
+  id: number,
+  lock: boolean,
+): Promise<AlertRow | undefined> {
+  const { rows } = await db.query<AlertRow>(
+    `SELECT ${COLS} FROM alerts a JOIN machines m ON m.id = a.machine_id WHERE a.id = $1${lock ? ' FOR UPDATE OF a' : ''}`,
+    [id],
+  );
+  return rows[0];
+}
+
+/** The reducer's state of a row (packages/monitor storedAlertState); a suppressed row acts as normal. */
+function reducerState(a: AlertRow) {
+  return (
+    storedAlertState({
+      state: a.state,
+      category: a.category,
+      level: a.level,
+      cleared: a.cleared_at !== null,
+      shelvedUntilMs: a.shelved_until?.getTime() ?? null,
+      shelvedBy: a.shelved_by,
+    }) ?? initialAlert(a.category === 'instrument' ? 'instrument-fault' : 'drift')
+  );
+}
+
+/** Store the reducer's step of an operator action: the row's new state and one event per transition. */
+async function storeActionStep(
+  client: Client,
+  id: number,
+  username: string,
+  event: AlertEvent,
+  nowMs: number,
+  step: ReturnType<typeof stepAlert>,
+): Promise<void> {
+  const s = step.state;
+  await client.query(
+    `UPDATE alerts SET state = $2,
+        acknowledged_at = CASE WHEN $3 THEN $4 ELSE acknowledged_at END,
+        acknowledged_by = CASE WHEN $3 THEN $5 ELSE acknowledged_by END,
+        shelved_until = $6, shelved_by = $7,
+        cleared_at = CASE WHEN $2 = 'normal' AND cleared_at IS NULL THEN $4 ELSE cleared_at END,
+        updated_at = $4
+      WHERE id = $1`,
+    [
+      id,
+      STATUS_TO_STORED[s.status],
+      event.type === 'acknowledge',
+      new Date(nowMs),
+      username,
+      s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
+      s.shelvedBy ?? null,
+    ],
+  );
+  for (const t of step.transitions)
+    await client.query(
+      `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note, data) VALUES ($1, $2, $3, $4, $5, $6, $7)`,
+      [
+        id,
+        new Date(t.at),
+        STATUS_TO_STORED[t.from],
+        STATUS_TO_STORED[t.to],
+        t.by ?? 'system',
+        t.comment ?? null,
+        JSON.stringify({ reason: t.reason }),
+      ],
+    );
+}
+
+/** Apply one operator action through the lifecycle reducer, store the new state, its events and the audit row. */
+async function act(
+  ctx: ApiContext,
+  id: number,
+  actor: Principal,
+  event: AlertEvent,
+  action: string,
+): Promise<AlertOut> {
+  return inTransaction(ctx.pool, async (client) => {
+    const a = await alertById(client, id, true);
+    if (a === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'alert', id });
+    const now = ctx.now();
+    const step = stepAlert(reducerState(a), event, now);
+    if (step.rejected !== undefined)
+      throw new ApiError('API_ALERT_REJECTED', {
+        id,
+        reason: step.rejected.reason,
+        rejection: step.rejected.code,
+      });
+    await storeActionStep(client, id, actor.username, event, now, step);
+    const after = (await alertById(client, id, false))!;
+    await appendAudit(client, {
+      actor,
+      action,
+      entity: 'alert',
+      entityId: id,
+      before: alertOut(a),
+      after: alertOut(after),
+    });
+    return alertOut(after);
+  });
+}
+
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function listAlertRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/alerts',
     {
@@ -171,15 +243,9 @@ export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (ap
       };
     },
   );
+}
 
-  const eventSchema = z.object({
-    time: z.string(),
-    fromState: z.string().nullable(),
-    toState: z.string(),
-    actor: z.string(),
-    note: z.string().nullable(),
-  });
-
+function alertDetailRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/alerts/:id',
     {
@@ -191,11 +257,7 @@ export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (ap
       },
     },
     async (request) => {
-      const { rows } = await ctx.pool.query<AlertRow>(
-        `SELECT ${COLS} FROM alerts a JOIN machines m ON m.id = a.machine_id WHERE a.id = $1`,
-        [request.params.id],
-      );
-      const a = rows[0];
+      const a = await alertById(ctx.pool, request.params.id, false);
       if (a === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'alert', id: request.params.id });
       const events = await ctx.pool.query<{
         time: Date;
@@ -219,92 +281,24 @@ export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (ap
       };
     },
   );
+}
 
-  /** Apply one operator action through the lifecycle reducer, store the new state, its events and the audit row. */
-  async function act(
-    id: number,
-    principalName: string,
-    request: { principal: import('../auth/roles.js').Principal | undefined },
-    event: AlertEvent,
-    action: string,
-  ): Promise<z.infer<typeof alertSchema>> {
-    const actor = request.principal!;
-    return inTransaction(ctx.pool, async (client) => {
-      const { rows } = await client.query<AlertRow>(
-        `SELECT ${COLS} FROM alerts a JOIN machines m ON m.id = a.machine_id WHERE a.id = $1 FOR UPDATE OF a`,
-        [id],
-      );
-      const a = rows[0];
-      if (a === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'alert', id });
-      const now = ctx.now();
-      const step = stepAlert(toState(a), event, now);
-      if (step.rejected !== undefined)
-        throw new ApiError('API_ALERT_REJECTED', {
-          id,
-          reason: step.rejected.reason,
-          rejection: step.rejected.code,
-        });
-      const s = step.state;
-      const newState = STATUS_TO_DB[s.status];
-      const acknowledged = event.type === 'acknowledge';
-      await client.query(
-        `UPDATE alerts SET state = $2,
-            acknowledged_at = CASE WHEN $3 THEN $4 ELSE acknowledged_at END,
-            acknowledged_by = CASE WHEN $3 THEN $5 ELSE acknowledged_by END,
-            shelved_until = $6, shelved_by = $7,
-            cleared_at = CASE WHEN $2 = 'normal' AND cleared_at IS NULL THEN $4 ELSE cleared_at END,
-            updated_at = $4
-          WHERE id = $1`,
-        [
-          id,
-          newState,
-          acknowledged,
-          new Date(now),
-          principalName,
-          s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
-          s.shelvedBy ?? null,
-        ],
-      );
-      for (const t of step.transitions)
-        await client.query(
-          `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note, data) VALUES ($1, $2, $3, $4, $5, $6, $7)`,
-          [
-            id,
-            new Date(t.at),
-            STATUS_TO_DB[t.from],
-            STATUS_TO_DB[t.to],
-            t.by ?? 'system',
-            t.comment ?? null,
-            JSON.stringify({ reason: t.reason }),
-          ],
-        );
-      const after = (
-        await client.query<AlertRow>(
-          `SELECT ${COLS} FROM alerts a JOIN machines m ON m.id = a.machine_id WHERE a.id = $1`,
-          [id],
-        )
-      ).rows[0]!;
-      await appendAudit(client, {
-        actor,
-        action,
-        entity: 'alert',
-        entityId: id,
-        before: alertOut(a),
-        after: alertOut(after),
-      });
-      return alertOut(after);
-    });
-  }
+const actionResponse = { 200: alertSchema, ...errorResponses, 409: problemSchema };
 
-  const actionResponse = { 200: alertSchema, ...errorResponses, 409: problemSchema };
-
+/** The operator actions without a body of their own: acknowledge and unshelve. */
+function simpleActionRoute(
+  app: App,
+  ctx: ApiContext,
+  verb: 'acknowledge' | 'unshelve',
+  summary: string,
+): void {
   app.post(
-    '/alerts/:id/acknowledge',
+    `/alerts/:id/${verb}`,
     {
       config: { role: 'engineer' },
       schema: {
         tags: ['alerts'],
-        summary: 'Acknowledge an alert',
+        summary,
         params: idParam,
         body: actionBody.optional(),
         response: actionResponse,
@@ -314,15 +308,17 @@ export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (ap
       const p = request.principal!;
       const note = request.body?.note;
       return act(
+        ctx,
         request.params.id,
-        p.username,
-        request,
-        { type: 'acknowledge', user: p.username, ...(note !== undefined ? { comment: note } : {}) },
-        'alert.acknowledge',
+        p,
+        { type: verb, user: p.username, ...(note !== undefined ? { comment: note } : {}) },
+        `alert.${verb}`,
       );
     },
   );
+}
 
+function shelveRoute(app: App, ctx: ApiContext): void {
   app.post(
     '/alerts/:id/shelve',
     {
@@ -353,37 +349,20 @@ export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (ap
       const b = request.body;
       const untilMs = b.until !== undefined ? Date.parse(b.until) : ctx.now() + (b.hours ?? 0) * 3_600_000;
       return act(
+        ctx,
         request.params.id,
-        p.username,
-        request,
+        p,
         { type: 'shelve', user: p.username, untilMs, ...(b.note !== undefined ? { comment: b.note } : {}) },
         'alert.shelve',
       );
     },
   );
+}
 
-  app.post(
-    '/alerts/:id/unshelve',
-    {
-      config: { role: 'engineer' },
-      schema: {
-        tags: ['alerts'],
-        summary: 'Unshelve an alert',
-        params: idParam,
-        body: actionBody.optional(),
-        response: actionResponse,
-      },
-    },
-    async (request) => {
-      const p = request.principal!;
-      const note = request.body?.note;
-      return act(
-        request.params.id,
-        p.username,
-        request,
-        { type: 'unshelve', user: p.username, ...(note !== undefined ? { comment: note } : {}) },
-        'alert.unshelve',
-      );
-    },
-  );
+export const alertRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  listAlertRoute(app, ctx);
+  alertDetailRoute(app, ctx);
+  simpleActionRoute(app, ctx, 'acknowledge', 'Acknowledge an alert');
+  shelveRoute(app, ctx);
+  simpleActionRoute(app, ctx, 'unshelve', 'Unshelve an alert');
 };

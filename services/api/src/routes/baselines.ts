@@ -1,12 +1,12 @@
-import { fitBaseline, MonitorError } from '@isentrope/monitor';
+import { fitBaseline, MonitorError, type PolynomialBaseline } from '@isentrope/monitor';
+import { type BaselineRow, BASELINE_COLUMNS as COLS } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import { appendAudit, inTransaction } from '../audit.js';
 import type { ApiContext } from '../context.js';
 import { ApiError } from '../errors.js';
 import { errorResponses, idParam, isoTime, problemSchema } from '../http/schemas.js';
-import type { BaselineRow } from '../queries/baselines.js';
-import { type BandRow, getBands, getMachine } from '../queries/machines.js';
+import { type BandRow, getBands, machineOr404 } from '../queries/machines.js';
 
 const baselineSchema = z.object({
   id: z.number().int(),
@@ -68,16 +68,9 @@ function bandsOut(b: BandRow): z.infer<typeof bandsSchema> {
   };
 }
 
-const COLS = `id::int, machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
-  residual_std, r_squared, statistics, active, created_at, created_by`;
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
 
-export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
-  async function machineOr404(id: number) {
-    const m = await getMachine(ctx.pool, id);
-    if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
-    return m;
-  }
-
+function listBaselinesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/baselines',
     {
@@ -89,7 +82,7 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       },
     },
     async (request) => {
-      await machineOr404(request.params.id);
+      await machineOr404(ctx.pool, request.params.id);
       const { rows } = await ctx.pool.query<BaselineRow>(
         `SELECT ${COLS} FROM baselines WHERE machine_id = $1 ORDER BY created_at DESC, id DESC`,
         [request.params.id],
@@ -97,7 +90,39 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       return { items: rows.map(baselineOut) };
     },
   );
+}
 
+/** Fit a polynomial baseline on the period's valid (and, when asked, steady) results; a fit that cannot be made is API_FIT_FAILED. */
+async function fitOnPeriod(
+  ctx: ApiContext,
+  machineId: number,
+  fromMs: number,
+  toMs: number,
+  body: { degree: 1 | 2 | 3; steadyOnly: boolean },
+): Promise<PolynomialBaseline> {
+  const { rows: pts } = await ctx.pool.query<{ x: number; y: number }>(
+    `SELECT operating_point AS x, efficiency AS y FROM results
+    WHERE machine_id = $1 AND time >= $2 AND time < $3 AND valid AND ($4::boolean IS FALSE OR steady)
+      AND efficiency IS NOT NULL AND operating_point IS NOT NULL`,
+    [machineId, new Date(fromMs), new Date(toMs), body.steadyOnly],
+  );
+  let model: ReturnType<typeof fitBaseline>;
+  try {
+    model = fitBaseline(
+      pts.map((p) => p.x),
+      pts.map((p) => p.y),
+      { method: 'polynomial', degree: body.degree },
+    );
+  } catch (error) {
+    if (error instanceof MonitorError)
+      throw new ApiError('API_FIT_FAILED', { reason: `${error.code}: ${error.message}` });
+    throw error;
+  }
+  if (model.kind !== 'polynomial') throw new ApiError('API_FIT_FAILED', { reason: 'not a polynomial' });
+  return model;
+}
+
+function fitBaselineRoute(app: App, ctx: ApiContext): void {
   app.post(
     '/machines/:id/baselines',
     {
@@ -118,30 +143,12 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       },
     },
     async (request, reply) => {
-      const m = await machineOr404(request.params.id);
+      const m = await machineOr404(ctx.pool, request.params.id);
       const body = request.body;
       const fromMs = Date.parse(body.from);
       const toMs = Date.parse(body.to);
       if (!(fromMs < toMs)) throw new ApiError('API_BAD_RANGE', { from: body.from, to: body.to });
-      const { rows: pts } = await ctx.pool.query<{ x: number; y: number }>(
-        `SELECT operating_point AS x, efficiency AS y FROM results
-          WHERE machine_id = $1 AND time >= $2 AND time < $3 AND valid AND ($4::boolean IS FALSE OR steady)
-            AND efficiency IS NOT NULL AND operating_point IS NOT NULL`,
-        [m.id, new Date(fromMs), new Date(toMs), body.steadyOnly],
-      );
-      let model: ReturnType<typeof fitBaseline>;
-      try {
-        model = fitBaseline(
-          pts.map((p) => p.x),
-          pts.map((p) => p.y),
-          { method: 'polynomial', degree: body.degree },
-        );
-      } catch (error) {
-        if (error instanceof MonitorError)
-          throw new ApiError('API_FIT_FAILED', { reason: `${error.code}: ${error.message}` });
-        throw error;
-      }
-      if (model.kind !== 'polynomial') throw new ApiError('API_FIT_FAILED', { reason: 'not a polynomial' });
+      const model = await fitOnPeriod(ctx, m.id, fromMs, toMs, body);
       const actor = request.principal!;
       const row = await inTransaction(ctx.pool, async (client) => {
         const before = await client.query<BaselineRow>(
@@ -151,8 +158,8 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
         await client.query(`UPDATE baselines SET active = false WHERE machine_id = $1 AND active`, [m.id]);
         const { rows } = await client.query<BaselineRow>(
           `INSERT INTO baselines (machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max,
-                                  n, residual_std, r_squared, statistics, active, created_by)
-           VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, true, $12) RETURNING ${COLS}`,
+                                n, residual_std, r_squared, statistics, active, created_by)
+         VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, $11, true, $12) RETURNING ${COLS}`,
           [
             m.id,
             body.operatingPoint,
@@ -186,7 +193,9 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       return reply.code(201).send(baselineOut(row));
     },
   );
+}
 
+function getBandsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/bands',
     {
@@ -198,12 +207,14 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       },
     },
     async (request) => {
-      await machineOr404(request.params.id);
+      await machineOr404(ctx.pool, request.params.id);
       const b = await getBands(ctx.pool, request.params.id);
       return b === undefined ? null : bandsOut(b);
     },
   );
+}
 
+function setBandsRoute(app: App, ctx: ApiContext): void {
   app.put(
     '/machines/:id/bands',
     {
@@ -220,16 +231,16 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       },
     },
     async (request) => {
-      const m = await machineOr404(request.params.id);
+      const m = await machineOr404(ctx.pool, request.params.id);
       const b = request.body;
       const actor = request.principal!;
       return inTransaction(ctx.pool, async (client) => {
         const before = await getBands(client, m.id);
         await client.query(
           `INSERT INTO bands (machine_id, warning, alarm, on_delay_s, off_delay_s, deadband, min_coverage, severity, require_beyond_uncertainty)
-           VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)
-           ON CONFLICT (machine_id) DO UPDATE SET warning = $2, alarm = $3, on_delay_s = $4, off_delay_s = $5,
-             deadband = $6, min_coverage = $7, severity = $8, require_beyond_uncertainty = $9, updated_at = now()`,
+         VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9)
+         ON CONFLICT (machine_id) DO UPDATE SET warning = $2, alarm = $3, on_delay_s = $4, off_delay_s = $5,
+           deadband = $6, min_coverage = $7, severity = $8, require_beyond_uncertainty = $9, updated_at = now()`,
           [
             m.id,
             b.warning,
@@ -255,4 +266,11 @@ export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async 
       });
     },
   );
+}
+
+export const baselineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  listBaselinesRoute(app, ctx);
+  fitBaselineRoute(app, ctx);
+  getBandsRoute(app, ctx);
+  setBandsRoute(app, ctx);
 };

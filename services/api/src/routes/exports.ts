@@ -8,12 +8,12 @@ import { createHash } from 'node:crypto';
 import {
   assertTimeZone,
   buildMonthlyReport,
+  gatherMonth,
   localMonth,
-  renderReportCsv,
-  renderReportHtml,
-  renderReportJson,
+  renderReport,
   sharedMonthZone,
 } from '@isentrope/monitor';
+import { monthlyFigures } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import { appendAudit } from '../audit.js';
@@ -29,7 +29,6 @@ import {
   pageQuery,
   problemSchema,
 } from '../http/schemas.js';
-import { gatherMonthlyInput } from '../queries/monthly.js';
 
 export const EXPORT_KIND = 'monthly-degradation';
 
@@ -132,7 +131,11 @@ export async function exportTimeZone(
   return zone;
 }
 
-/** Render the month's report in one format (the monthly job calls the same builder and renderers). */
+/**
+ * Render the month's report in one format: the same gatherer (packages/monitor gatherMonth over
+ * the stored figures), builder and renderer as the scheduled monthly job, so an export made here
+ * and one made by the schedule for the same month and clock are the same bytes.
+ */
 export async function renderMonthlyExport(
   ctx: Pick<ApiContext, 'pool' | 'energyPrice' | 'now'>,
   month: string,
@@ -140,21 +143,18 @@ export async function renderMonthlyExport(
   format: Format,
   machineId: number | undefined,
 ): Promise<string> {
-  const input = await gatherMonthlyInput(ctx.pool, month, {
+  const input = await gatherMonth(monthlyFigures(ctx.pool), month, {
     timeZone,
     machineIds: machineId === undefined ? undefined : [machineId],
     price: ctx.energyPrice,
     generatedAtMs: ctx.now(),
   });
-  const report = buildMonthlyReport(input);
-  return format === 'csv'
-    ? renderReportCsv(report)
-    : format === 'json'
-      ? renderReportJson(report)
-      : renderReportHtml(report);
+  return renderReport(buildMonthlyReport(input), format);
 }
 
-export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function listExportsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/exports',
     {
@@ -186,7 +186,9 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       };
     },
   );
+}
 
+function makeExportRoute(app: App, ctx: ApiContext): void {
   app.post(
     '/exports',
     {
@@ -232,7 +234,7 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       const bytes = Buffer.from(content, 'utf8');
       const { rows } = await ctx.pool.query<ExportRow>(
         `INSERT INTO exports (kind, machine_id, period_from, period_to, format, status, content, checksum, error, created_by, finished_at)
-         VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, now()) RETURNING ${COLS}`,
+       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $10, now()) RETURNING ${COLS}`,
         [
           EXPORT_KIND,
           machineId ?? null,
@@ -259,7 +261,9 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       return reply.code(201).send(exportOut(row));
     },
   );
+}
 
+function downloadExportRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/exports/:id/download',
     {
@@ -287,4 +291,10 @@ export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
         .send(r.content.toString('utf8'));
     },
   );
+}
+
+export const exportRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  listExportsRoute(app, ctx);
+  makeExportRoute(app, ctx);
+  downloadExportRoute(app, ctx);
 };

@@ -14,7 +14,8 @@ import {
   rangeQuery,
   resolveRange,
 } from '../http/schemas.js';
-import { bandState, CURRENT_WINDOW_MS, fleetRows, HEALTH_WINDOW_MS } from '../queries/fleet.js';
+import { CURRENT_WINDOW_MS, type FleetRow, fleetRows, HEALTH_WINDOW_MS } from '../queries/fleet.js';
+import { fleetBand, fleetState } from '../queries/fleet-state.js';
 import { getMachine, getTag, listMachines, listSites, listTags, type TagRow } from '../queries/machines.js';
 import { listSamples, sampleTrend } from '../queries/samples.js';
 
@@ -64,7 +65,16 @@ const fleetItem = z.object({
       operatingPoint: z.number().nullable(),
     })
     .nullable(),
-  band: z.enum(['normal', 'warning', 'alarm', 'unknown']),
+  band: z
+    .enum(['normal', 'warning', 'alarm', 'unknown'])
+    .describe("The drift band's severity as the alert job stored it"),
+  state: z
+    .object({
+      key: z.enum(['out-of-service', 'no-data', 'alarm', 'warning', 'normal', 'unknown']),
+      label: z.string(),
+      detail: z.string(),
+    })
+    .describe('What to show first: the band, or why it says nothing about today'),
   bands: z.object({ warning: z.number(), alarm: z.number() }).nullable(),
   hasBaseline: z.boolean(),
   health: z.object({
@@ -80,6 +90,46 @@ const fleetItem = z.object({
     .object({ drift: z.number().int(), instrument: z.number().int() })
     .describe('Open alerts on efficiency drift and on instruments, kept apart'),
 });
+
+function fleetItemOut(r: FleetRow, nowMs: number): z.infer<typeof fleetItem> {
+  return {
+    id: r.id,
+    site: r.site_slug,
+    slug: r.slug,
+    name: r.name,
+    kind: r.kind,
+    outOfService: r.out_of_service,
+    retired: r.retired_at !== null,
+    current:
+      r.last_valid_time === null
+        ? null
+        : {
+            windowEnd: r.last_valid_time.toISOString(),
+            windowMs: CURRENT_WINDOW_MS,
+            n: r.n_current,
+            efficiency: r.eff,
+            uEfficiency: r.u_eff,
+            baseline: r.baseline,
+            driftPts: r.drift,
+            power: r.power,
+            operatingPoint: r.x,
+          },
+    band: fleetBand(r),
+    state: fleetState(r, nowMs),
+    bands: r.warning !== null && r.alarm !== null ? { warning: r.warning, alarm: r.alarm } : null,
+    hasBaseline: r.baseline_id !== null,
+    health: {
+      windowMs: HEALTH_WINDOW_MS,
+      results: r.n_health,
+      valid: r.n_health_valid,
+      validShare: r.n_health > 0 ? r.n_health_valid / r.n_health : null,
+      lastResult: r.last_time?.toISOString() ?? null,
+      lastFlags: r.last_flags ?? [],
+    },
+    openAlerts: r.open_alerts,
+    openAlertsByCategory: { drift: r.open_drift, instrument: r.open_instrument },
+  };
+}
 
 const tagSchema = z.object({
   id: z.number().int(),
@@ -122,7 +172,23 @@ const trendQuery = rangeQuery.extend({
     .describe('Number of buckets (points) wanted'),
 });
 
-export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+const machineOut = (m: Awaited<ReturnType<typeof listMachines>>[number]): z.infer<typeof machineSchema> => ({
+  id: m.id,
+  site: m.site_slug,
+  slug: m.slug,
+  name: m.name,
+  kind: m.kind,
+  fluid: m.fluid,
+  ratings: m.ratings,
+  driverEfficiency: m.driver_efficiency,
+  outOfService: m.out_of_service,
+  keyTags: m.key_tags,
+  retiredAt: m.retired_at?.toISOString() ?? null,
+});
+
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function sitesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/sites',
     {
@@ -143,7 +209,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       })),
     }),
   );
+}
 
+function fleetRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/fleet',
     {
@@ -161,62 +229,13 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       const rows = await fleetRows(ctx.pool, now);
       return {
         generatedAt: new Date(now).toISOString(),
-        items: rows.map((r) => ({
-          id: r.id,
-          site: r.site_slug,
-          slug: r.slug,
-          name: r.name,
-          kind: r.kind,
-          outOfService: r.out_of_service,
-          retired: r.retired_at !== null,
-          current:
-            r.last_valid_time === null
-              ? null
-              : {
-                  windowEnd: r.last_valid_time.toISOString(),
-                  windowMs: CURRENT_WINDOW_MS,
-                  n: r.n_current,
-                  efficiency: r.eff,
-                  uEfficiency: r.u_eff,
-                  baseline: r.baseline,
-                  driftPts: r.drift,
-                  power: r.power,
-                  operatingPoint: r.x,
-                },
-          band: r.out_of_service ? ('unknown' as const) : bandState(r.drift, r.warning, r.alarm),
-          bands: r.warning !== null && r.alarm !== null ? { warning: r.warning, alarm: r.alarm } : null,
-          hasBaseline: r.baseline_id !== null,
-          health: {
-            windowMs: HEALTH_WINDOW_MS,
-            results: r.n_health,
-            valid: r.n_health_valid,
-            validShare: r.n_health > 0 ? r.n_health_valid / r.n_health : null,
-            lastResult: r.last_time?.toISOString() ?? null,
-            lastFlags: r.last_flags ?? [],
-          },
-          openAlerts: r.open_alerts,
-          openAlertsByCategory: { drift: r.open_drift, instrument: r.open_instrument },
-        })),
+        items: rows.map((r) => fleetItemOut(r, now)),
       };
     },
   );
+}
 
-  const machineOut = (
-    m: Awaited<ReturnType<typeof listMachines>>[number],
-  ): z.infer<typeof machineSchema> => ({
-    id: m.id,
-    site: m.site_slug,
-    slug: m.slug,
-    name: m.name,
-    kind: m.kind,
-    fluid: m.fluid,
-    ratings: m.ratings,
-    driverEfficiency: m.driver_efficiency,
-    outOfService: m.out_of_service,
-    keyTags: m.key_tags,
-    retiredAt: m.retired_at?.toISOString() ?? null,
-  });
-
+function machinesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines',
     {
@@ -228,7 +247,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
     },
     async () => ({ items: (await listMachines(ctx.pool)).map(machineOut) }),
   );
+}
 
+function machineRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id',
     {
@@ -245,7 +266,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return machineOut(m);
     },
   );
+}
 
+function tagsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags',
     {
@@ -258,7 +281,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
     },
     async (request) => ({ items: (await listTags(ctx.pool, request.query.machine)).map(tagOut) }),
   );
+}
 
+function tagRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id',
     {
@@ -275,7 +300,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return tagOut(t);
     },
   );
+}
 
+function tagSamplesRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id/samples',
     {
@@ -312,7 +339,9 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       };
     },
   );
+}
 
+function tagTrendRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/tags/:id/trend',
     {
@@ -362,4 +391,15 @@ export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (
       return body;
     },
   );
+}
+
+export const machineRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  sitesRoute(app, ctx);
+  fleetRoute(app, ctx);
+  machinesRoute(app, ctx);
+  machineRoute(app, ctx);
+  tagsRoute(app, ctx);
+  tagRoute(app, ctx);
+  tagSamplesRoute(app, ctx);
+  tagTrendRoute(app, ctx);
 };

@@ -1,4 +1,5 @@
 import { degradation } from '@isentrope/monitor';
+import { readActiveBaselineRow } from '@isentrope/store';
 import type { FastifyPluginAsyncZod } from 'fastify-type-provider-zod';
 import { z } from 'zod';
 import type { ApiContext } from '../context.js';
@@ -15,10 +16,10 @@ import {
   rangeQuery,
   resolveRange,
 } from '../http/schemas.js';
-import { activeBaseline } from '../queries/baselines.js';
-import { getBands, getMachine } from '../queries/machines.js';
+import { getBands, machineOr404 } from '../queries/machines.js';
 import { withoutJit } from '../queries/nojit.js';
 import {
+  type DailyDrift,
   dailyDrift,
   listResults,
   type ResultRow,
@@ -152,14 +153,45 @@ function roundBucket(b: TrendBucket): TrendBucket {
   };
 }
 
-export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
-  const cache = new TrendCache(ctx.pool, ctx.now);
-  async function machineOr404(id: number) {
-    const m = await getMachine(ctx.pool, id);
-    if (m === undefined) throw new ApiError('API_NOT_FOUND', { entity: 'machine', id });
-    return m;
-  }
+async function buildTrend(
+  ctx: ApiContext,
+  cache: TrendCache,
+  id: number,
+  range: { from?: string | undefined; to?: string | undefined },
+  bucketsOrWindow: { buckets: number } | { windowS: number },
+) {
+  const m = await machineOr404(ctx.pool, id);
+  const { fromMs, toMs } = resolveRange(range, ctx.now());
+  const baseline = await readActiveBaselineRow(ctx.pool, m.id);
+  const bands = await getBands(ctx.pool, m.id);
+  const buckets =
+    'buckets' in bucketsOrWindow
+      ? bucketsOrWindow.buckets
+      : Math.max(1, Math.ceil((toMs - fromMs) / (bucketsOrWindow.windowS * 1000)));
+  if (buckets > 20_000)
+    throw new ApiError('API_UNPROCESSABLE', {
+      reason: `${buckets} windows asked; at most 20000 per request`,
+    });
+  // Long ranges come from the hourly aggregates (whole-hour buckets); short ones from the live query.
+  const hourly = Math.ceil((toMs - fromMs) / buckets / HOUR) * HOUR;
+  const trend =
+    toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
+      ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
+      : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets);
+  return {
+    machineId: m.id,
+    from: new Date(fromMs).toISOString(),
+    to: new Date(toMs).toISOString(),
+    bucketMs: trend.widthMs,
+    bands: bands === undefined ? null : { warning: bands.warning, alarm: bands.alarm },
+    baselineId: baseline?.id ?? null,
+    buckets: trend.buckets.map(roundBucket),
+  };
+}
 
+type App = Parameters<FastifyPluginAsyncZod<{ ctx: ApiContext }>>[0];
+
+function resultsRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/results',
     {
@@ -172,7 +204,7 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request) => {
-      await machineOr404(request.params.id);
+      await machineOr404(ctx.pool, request.params.id);
       const { fromMs, toMs } = resolveRange(request.query, ctx.now());
       const cursor = decodeCursor(request.query.cursor);
       const before = cursor === undefined ? undefined : Number(cursor[0]);
@@ -191,41 +223,9 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       };
     },
   );
+}
 
-  async function buildTrend(
-    id: number,
-    range: { from?: string | undefined; to?: string | undefined },
-    bucketsOrWindow: { buckets: number } | { windowS: number },
-  ) {
-    const m = await machineOr404(id);
-    const { fromMs, toMs } = resolveRange(range, ctx.now());
-    const baseline = await activeBaseline(ctx.pool, m.id);
-    const bands = await getBands(ctx.pool, m.id);
-    const buckets =
-      'buckets' in bucketsOrWindow
-        ? bucketsOrWindow.buckets
-        : Math.max(1, Math.ceil((toMs - fromMs) / (bucketsOrWindow.windowS * 1000)));
-    if (buckets > 20_000)
-      throw new ApiError('API_UNPROCESSABLE', {
-        reason: `${buckets} windows asked; at most 20000 per request`,
-      });
-    // Long ranges come from the hourly aggregates (whole-hour buckets); short ones from the live query.
-    const hourly = Math.ceil((toMs - fromMs) / buckets / HOUR) * HOUR;
-    const trend =
-      toMs - fromMs >= CACHE_MIN_RANGE_MS && hourly >= CACHE_MIN_BUCKET_MS
-        ? { widthMs: hourly, buckets: await cache.trend(m.id, fromMs, toMs, hourly, baseline) }
-        : await resultTrend(ctx.pool, m.id, fromMs, toMs, buckets, baseline);
-    return {
-      machineId: m.id,
-      from: new Date(fromMs).toISOString(),
-      to: new Date(toMs).toISOString(),
-      bucketMs: trend.widthMs,
-      bands: bands === undefined ? null : { warning: bands.warning, alarm: bands.alarm },
-      baselineId: baseline?.id ?? null,
-      buckets: trend.buckets.map(roundBucket),
-    };
-  }
-
+function trendRoute(app: App, ctx: ApiContext, cache: TrendCache): void {
   app.get(
     '/machines/:id/trend',
     {
@@ -241,11 +241,15 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request, reply) => {
-      const body = await buildTrend(request.params.id, request.query, { buckets: request.query.buckets });
+      const body = await buildTrend(ctx, cache, request.params.id, request.query, {
+        buckets: request.query.buckets,
+      });
       return sendJsonWithEtag(request, reply, body);
     },
   );
+}
 
+function rollingRoute(app: App, ctx: ApiContext, cache: TrendCache): void {
   app.get(
     '/machines/:id/rolling',
     {
@@ -266,11 +270,65 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request, reply) => {
-      const body = await buildTrend(request.params.id, request.query, { windowS: request.query.windowS });
+      const body = await buildTrend(ctx, cache, request.params.id, request.query, {
+        windowS: request.query.windowS,
+      });
       return sendJsonWithEtag(request, reply, body);
     },
   );
+}
 
+const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
+const isoOrNull = (v: number | undefined): string | null =>
+  v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
+
+/** The drift answer: the days, and the Theil-Sen rate with its forecast when an alarm level is set. */
+function driftAnswer(machineId: number, days: DailyDrift[], alarmPts: number | undefined) {
+  if (alarmPts === undefined)
+    return {
+      machineId,
+      days,
+      alarmPts: null,
+      ratePtsPerMonth: null,
+      rateLowPtsPerMonth: null,
+      rateHighPtsPerMonth: null,
+      forecast: {
+        status: 'none' as const,
+        at: null,
+        earliest: null,
+        latest: null,
+        text: 'No bands configured: no alarm level to forecast.',
+      },
+    };
+  const d = degradation(
+    days.map((x) => x.t),
+    days.map((x) => x.driftPts),
+    { alarmPts },
+  );
+  const f = d.forecast;
+  return {
+    machineId,
+    days,
+    alarmPts,
+    ratePtsPerMonth: finite(d.ratePtsPerMonth),
+    rateLowPtsPerMonth: finite(d.rateLowPtsPerMonth),
+    rateHighPtsPerMonth: finite(d.rateHighPtsPerMonth),
+    forecast:
+      f.status === 'forecast'
+        ? {
+            status: f.status,
+            at: isoOrNull(f.atMs),
+            earliest: isoOrNull(f.earliestMs),
+            latest: isoOrNull(f.latestMs),
+            text: 'forecast from the Theil-Sen line',
+          }
+        : f.status === 'reached'
+          ? { status: f.status, at: isoOrNull(f.atMs), earliest: null, latest: null, text: f.reason }
+          : { status: f.status, at: null, earliest: null, latest: null, text: f.text },
+  };
+}
+
+function driftRoute(app: App, ctx: ApiContext): void {
   app.get(
     '/machines/:id/drift',
     {
@@ -302,57 +360,22 @@ export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (a
       },
     },
     async (request) => {
-      const m = await machineOr404(request.params.id);
+      const m = await machineOr404(ctx.pool, request.params.id);
       const { fromMs, toMs } = resolveRange(request.query, ctx.now(), 90 * 86_400_000);
-      const baseline = await activeBaseline(ctx.pool, m.id);
+      const baseline = await readActiveBaselineRow(ctx.pool, m.id);
       if (baseline === undefined) throw new ApiError('API_NO_BASELINE', { machineId: m.id });
       const bands = await getBands(ctx.pool, m.id);
-      const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, baseline));
-      const finite = (v: number): number | null => (Number.isFinite(v) ? v : null);
-      const iso = (v: number | undefined): string | null =>
-        v !== undefined && Number.isFinite(v) ? new Date(v).toISOString() : null;
-      if (bands === undefined)
-        return {
-          machineId: m.id,
-          days,
-          alarmPts: null,
-          ratePtsPerMonth: null,
-          rateLowPtsPerMonth: null,
-          rateHighPtsPerMonth: null,
-          forecast: {
-            status: 'none' as const,
-            at: null,
-            earliest: null,
-            latest: null,
-            text: 'No bands configured: no alarm level to forecast.',
-          },
-        };
-      const d = degradation(
-        days.map((x) => x.t),
-        days.map((x) => x.driftPts),
-        { alarmPts: -bands.alarm },
-      );
-      const f = d.forecast;
-      return {
-        machineId: m.id,
-        days,
-        alarmPts: -bands.alarm,
-        ratePtsPerMonth: finite(d.ratePtsPerMonth),
-        rateLowPtsPerMonth: finite(d.rateLowPtsPerMonth),
-        rateHighPtsPerMonth: finite(d.rateHighPtsPerMonth),
-        forecast:
-          f.status === 'forecast'
-            ? {
-                status: f.status,
-                at: iso(f.atMs),
-                earliest: iso(f.earliestMs),
-                latest: iso(f.latestMs),
-                text: 'forecast from the Theil-Sen line',
-              }
-            : f.status === 'reached'
-              ? { status: f.status, at: iso(f.atMs), earliest: null, latest: null, text: f.reason }
-              : { status: f.status, at: null, earliest: null, latest: null, text: f.text },
-      };
+      // Every UTC day with a stored drift counts here (the analysis job's rate asks 60 points a day).
+      const days = await withoutJit(ctx.pool, (c) => dailyDrift(c, m.id, fromMs, toMs, 1));
+      return driftAnswer(m.id, days, bands === undefined ? undefined : -bands.alarm);
     },
   );
+}
+
+export const resultRoutes: FastifyPluginAsyncZod<{ ctx: ApiContext }> = async (app, { ctx }) => {
+  const cache = new TrendCache(ctx.pool, ctx.now);
+  resultsRoute(app, ctx);
+  trendRoute(app, ctx, cache);
+  rollingRoute(app, ctx, cache);
+  driftRoute(app, ctx);
 };

@@ -16,3 +16,13 @@ export async function buildTestApp(pool: pg.Pool, extra: Partial<ApiDependencies
   await app.ready();
   return app;
 }
+
+/** POST /api/exports with a bearer token, as the dashboard's export page does. */
+export function postExport(app: ApiApp, token: string, payload: Record<string, unknown>) {
+  return app.inject({
+    method: 'POST',
+    url: '/api/exports',
+    headers: { authorization: `Bearer ${token}` },
+    payload,
+  });
+}

@@ -2,6 +2,7 @@
  * Seeding helpers for the API's database tests and the benchmark: plain SQL inserts of an
  * invented plant (demo data, invented), users, tokens, baselines, bands, results and alerts.
  */
+import { runAnalysisOnce } from '@isentrope/jobs';
 import { ensurePartitions } from '@isentrope/store';
 import { dryAir, evaluateMachine, type MachineResult, water } from '@isentrope/thermo';
 import type pg from 'pg';
@@ -228,4 +229,17 @@ export async function insertAlert(
     [machineId, category, level, state],
   );
   return Number(rows[0]!.id);
+}
+
+/**
+ * Let the analysis job (services/jobs) write what the API reads: the drift series onto every
+ * result row (baseline efficiency, drift and their uncertainties) and machine_status. Rows inserted
+ * by hand are queued for it first, as every writer of results does (migrations/0007).
+ */
+export async function analyseStored(pool: pg.Pool, nowMs: number, stepMs = 60_000): Promise<void> {
+  await pool.query(
+    `INSERT INTO analysis_pending (machine_id, from_time, to_time)
+     SELECT machine_id, min(time), max(time) + interval '1 millisecond' FROM results GROUP BY machine_id`,
+  );
+  await runAnalysisOnce(pool, { nowMs, stepMs, maxBatches: Number.POSITIVE_INFINITY });
 }

@@ -13,8 +13,8 @@
  *    whichever is earlier, and never later than the band's onset.
  */
 import type { BandState, Severity } from '@isentrope/monitor';
+import type { Queryable } from '@isentrope/store';
 import { dailyDriftMeans } from '../analysis/job.js';
-import type { Queryable } from '../queries/machines.js';
 import { isoSeconds } from './times.js';
 
 const DAY_MS = 86_400_000;

@@ -3,7 +3,7 @@
  * defaults per machine kind) as a monitor BandConfig, and the instrument-fault flags of a result.
  */
 import type { BandConfig } from '@isentrope/monitor';
-import type { Queryable } from '../queries/machines.js';
+import type { Queryable } from '@isentrope/store';
 
 export type AlertSeverityColumn = 'low' | 'medium' | 'high' | 'urgent';
 

@@ -27,6 +27,7 @@ import {
   type Severity,
   stepBand,
 } from '@isentrope/monitor';
+import { inTransaction } from '@isentrope/store';
 import type pg from 'pg';
 import { readActiveBaseline } from '../analysis/baseline.js';
 import {
@@ -238,202 +239,257 @@ async function machineRows(
   return res.rows;
 }
 
+type ResolvedOptions = Required<Omit<AlertsOptions, 'machineIds'>>;
+
+/** One machine's tick: its band states, its open alerts, and the steps they take. */
+interface MachineTick {
+  readonly client: pg.PoolClient;
+  readonly m: MachineDb;
+  readonly bands: MachineBands;
+  readonly tagByRole: Map<string, number>;
+  readonly ma: MachineAlerts;
+  readonly states: Map<string, KeyState>;
+  readonly o: ResolvedOptions;
+}
+
+function stateOf(states: Map<string, KeyState>, key: string): KeyState {
+  let s = states.get(key);
+  if (s === undefined) {
+    s = { band: INITIAL_BAND_STATE, evaluatedTo: null, dirty: true };
+    states.set(key, s);
+  }
+  return s;
+}
+
+/** Evidence and message of a drift band step (the caution is added when stored). */
+async function driftStepContext(
+  tick: MachineTick,
+  baseline: { id: number; operatingPoint: string },
+  w: { efficiency: number; uEfficiency: number; coverage: number; n: number; operatingPoint: number },
+  step: ReturnType<typeof stepBand>,
+  before: BandState,
+  end: number,
+): Promise<ConditionContext> {
+  const { client, m, bands, o } = tick;
+  const from = end - o.driftWindowMs;
+  const level = step.to === 'alarm' ? -bands.alarm : -bands.warning;
+  const since =
+    step.to === 'normal'
+      ? undefined
+      : conditionEvidence(
+          await driftConditionSince(
+            client,
+            m.id,
+            level,
+            bandOnsetMs(before, step.to, end),
+            o.minPointsPerDay,
+          ),
+          end,
+        );
+  const evidence = {
+    driftPts: w.efficiency,
+    uDriftPts: w.uEfficiency,
+    k: EXPANDED_K,
+    expandedUDriftPts: EXPANDED_K * w.uEfficiency,
+    coverage: w.coverage,
+    points: w.n,
+    operatingPoint: Number.isFinite(w.operatingPoint) ? w.operatingPoint : null,
+    baselineOperatingPoint: baseline.operatingPoint,
+    window: { from: iso(from), to: iso(end) },
+    link: trendLink(m.slug, from, end),
+    baselineId: baseline.id,
+    band: {
+      warningPts: -bands.warning,
+      alarmPts: -bands.alarm,
+      deadbandPts: bands.deadband,
+      onDelayS: bands.onDelayS,
+      offDelayS: bands.offDelayS,
+      minCoverage: bands.minCoverage,
+      source: bands.source,
+    },
+    reason: step.reason,
+    ...since?.fields,
+  };
+  const message =
+    since === undefined
+      ? `${m.name}: efficiency drift back inside the band: ${w.efficiency.toFixed(2)} points over the hour to ${iso(end)}.`
+      : `${m.name}: efficiency drift ${w.efficiency.toFixed(2)} ± ${(EXPANDED_K * w.uEfficiency).toFixed(2)} points (k = ${EXPANDED_K}) over the hour to ${iso(end)}, beyond the ${step.to} level of ${level} points; ${since.text}.`;
+  return { evidence, message, conditionSinceMs: since?.ms };
+}
+
+/** Drift on the 1-hour trailing window, one sample per grid step from where the band stopped. */
+async function judgeDrift(tick: MachineTick, asOf: number, earliest: number): Promise<void> {
+  const { client, m, bands, ma, o } = tick;
+  const baseline = await readActiveBaseline(client, m.id);
+  const ds = stateOf(tick.states, 'drift');
+  if (baseline === undefined) {
+    // No baseline yet: no drift to judge; keep the band where it is and the clock moving.
+    ds.evaluatedTo = asOf;
+    ds.dirty = true;
+    return;
+  }
+  const firstEnd = Math.max(ds.evaluatedTo ?? earliest, earliest) + o.stepMs;
+  if (firstEnd > asOf) return;
+  const rows = await machineRows(client, m.id, firstEnd - o.driftWindowMs, asOf);
+  const input = {
+    t: rows.map((r) => r.t),
+    efficiency: rows.map((r) => r.drift ?? Number.NaN),
+    uSys: rows.map((r) => r.u_drift ?? Number.NaN),
+    operatingPoint: rows.map((r) => r.operating_point ?? Number.NaN),
+    use: rows.map((r) => (r.usable ? 1 : 0)),
+  };
+  const config = driftBandConfig(bands);
+  for (let end = firstEnd; end <= asOf; end += o.stepMs) {
+    const w = rollingWindows(input, end, o.stepMs, [o.driftWindowMs])[0];
+    if (w === undefined) continue;
+    const before = ds.band;
+    const step = stepBand(
+      before,
+      { t: end, value: w.efficiency, u: w.uEfficiency, coverage: w.coverage },
+      config,
+    );
+    ma.samples++;
+    ds.band = step.state;
+    ds.evaluatedTo = end;
+    ds.last = { value: w.efficiency, u: w.uEfficiency, coverage: w.coverage };
+    ds.dirty = true;
+    const event = bandToAlertEvent(step.from, step.to, step.reason);
+    if (event === undefined) continue;
+    await ma.apply('drift', event, end, await driftStepContext(tick, baseline, w, step, before, end));
+  }
+}
+
+/** Evidence, message and event of an instrument band change. */
+async function instrumentStepContext(
+  tick: MachineTick,
+  key: string,
+  names: string[] | undefined,
+  step: ReturnType<typeof stepBand>,
+  before: BandState,
+  t: number,
+): Promise<{ event: AlertEvent; ctx: ConditionContext }> {
+  const { client, m, bands, o } = tick;
+  const role = key.slice('instrument:'.length);
+  const from = t - (step.to === 'normal' ? bands.offDelayS : bands.onDelayS) * 1000;
+  const since =
+    step.to === 'normal'
+      ? undefined
+      : conditionEvidence(
+          await instrumentConditionSince(client, m.id, key, bandOnsetMs(before, step.to, t), t),
+          t,
+        );
+  const evidence = {
+    faults: names ?? [],
+    role,
+    tagId: tick.tagByRole.get(role) ?? null,
+    window: { from: iso(from), to: iso(t + o.stepMs) },
+    link: trendLink(m.slug, from, t + o.stepMs),
+    onDelayS: bands.onDelayS,
+    offDelayS: bands.offDelayS,
+    reason: step.reason,
+    ...since?.fields,
+  };
+  const what = role === 'machine' ? 'the machine' : `tag role ${role}`;
+  const event: AlertEvent =
+    step.to === 'normal'
+      ? { type: 'clear', reason: `instrument fault gone for the off-delay: ${step.reason}` }
+      : {
+          type: 'activate',
+          severity: 'warning',
+          reason: `instrument fault held for the on-delay: ${step.reason}`,
+        };
+  const message =
+    since === undefined
+      ? `${m.name}: instrument fault on ${what} has cleared.`
+      : `${m.name}: instrument fault on ${what} (${(names ?? []).join(', ')}); ${since.text}; figures resting on it are excluded, this is not an efficiency alert.`;
+  return { event, ctx: { evidence, message, conditionSinceMs: since?.ms } };
+}
+
+/** Instrument faults, one band per tag role (and one for the machine as a whole), row by row. */
+async function judgeInstruments(
+  tick: MachineTick,
+  asOf: number,
+  earliest: number,
+  scannedTo: number | null,
+): Promise<void> {
+  const { client, m, bands, ma, states } = tick;
+  const instrKeys = [...states.keys()].filter((k) => k.startsWith('instrument:'));
+  let instrFrom = earliest;
+  for (const k of instrKeys)
+    instrFrom = Math.min(instrFrom, Math.max(states.get(k)?.evaluatedTo ?? earliest, earliest));
+  // With no instrument band yet, the rows the drift pass had not seen are the new ones.
+  const startFrom = instrKeys.length === 0 ? Math.max(scannedTo ?? earliest, earliest) : instrFrom;
+  const rows = await machineRows(client, m.id, startFrom, asOf);
+  const fconfig = faultBandConfig(bands);
+  for (const r of rows) {
+    const faults = faultsByKey(r.flags);
+    for (const key of faults.keys()) stateOf(states, key);
+    for (const [key, s] of states) {
+      if (!key.startsWith('instrument:')) continue;
+      if (s.evaluatedTo !== null && r.t <= s.evaluatedTo) continue;
+      const names = faults.get(key);
+      const before = s.band;
+      const step = stepBand(before, { t: r.t, value: names === undefined ? 0 : 1 }, fconfig);
+      s.band = step.state;
+      s.evaluatedTo = r.t;
+      s.last = { value: names === undefined ? 0 : 1, u: 0, coverage: 1 };
+      s.dirty = true;
+      if (!step.changed) continue;
+      const { event, ctx } = await instrumentStepContext(tick, key, names, step, before, r.t);
+      await ma.apply(key, event, r.t, ctx);
+    }
+  }
+}
+
+async function newestResultMs(client: pg.PoolClient, machineId: number): Promise<number | null> {
+  const newest = await client.query<{ t: number | null }>(
+    `SELECT (extract(epoch FROM max(time)) * 1000)::float8 AS t FROM results WHERE machine_id = $1`,
+    [machineId],
+  );
+  return newest.rows[0]?.t ?? null;
+}
+
+async function openTick(client: pg.PoolClient, m: MachineDb, o: ResolvedOptions): Promise<MachineTick> {
+  const bands = await bandsFor(client, m.id, m.kind);
+  const tags = await client.query<{ id: number; role: string }>(
+    `SELECT id, role FROM tags WHERE machine_id = $1 AND retired_at IS NULL`,
+    [m.id],
+  );
+  const tagByRole = new Map(tags.rows.map((t) => [t.role, t.id]));
+  const ma = new MachineAlerts(client, m, bands, tagByRole, await lockOpenAlerts(client, m.id));
+  return { client, m, bands, tagByRole, ma, states: await loadBandStates(client, m.id), o };
+}
+
 async function alertsForMachine(
   pool: pg.Pool,
   m: MachineDb,
-  o: Required<Omit<AlertsOptions, 'machineIds'>>,
+  o: ResolvedOptions,
 ): Promise<{ samples: number; transitions: number }> {
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN');
-    const bands = await bandsFor(client, m.id, m.kind);
-    const tags = await client.query<{ id: number; role: string }>(
-      `SELECT id, role FROM tags WHERE machine_id = $1 AND retired_at IS NULL`,
-      [m.id],
-    );
-    const tagByRole = new Map(tags.rows.map((t) => [t.role, t.id]));
-    const ma = new MachineAlerts(client, m, bands, tagByRole, await lockOpenAlerts(client, m.id));
-    const states = await loadBandStates(client, m.id);
-    const newest = await client.query<{ t: number | null }>(
-      `SELECT (extract(epoch FROM max(time)) * 1000)::float8 AS t FROM results WHERE machine_id = $1`,
-      [m.id],
-    );
-    const last = newest.rows[0]?.t ?? null;
+  return inTransaction(pool, async (client) => {
+    const tick = await openTick(client, m, o);
+    const last = await newestResultMs(client, m.id);
     const asOf = last === null ? null : last + o.stepMs;
-    const stateOf = (key: string): KeyState => {
-      let s = states.get(key);
-      if (s === undefined) {
-        s = { band: INITIAL_BAND_STATE, evaluatedTo: null, dirty: true };
-        states.set(key, s);
-      }
-      return s;
-    };
-
     if (asOf !== null && m.out_of_service) {
       // Out of service: nothing is judged; the bands restart from normal when it returns.
-      for (const s of [stateOf('drift'), ...states.values()]) {
+      for (const s of [stateOf(tick.states, 'drift'), ...tick.states.values()]) {
         s.band = INITIAL_BAND_STATE;
         s.evaluatedTo = asOf;
         s.dirty = true;
       }
     } else if (asOf !== null) {
       const earliest = asOf - o.maxCatchUpMs;
-      // Drift on the 1-hour trailing window, one sample per grid step.
-      const baseline = await readActiveBaseline(client, m.id);
-      const ds = stateOf('drift');
-      const scannedTo = ds.evaluatedTo;
-      if (baseline !== undefined) {
-        const firstEnd = Math.max(ds.evaluatedTo ?? earliest, earliest) + o.stepMs;
-        if (firstEnd <= asOf) {
-          const rows = await machineRows(client, m.id, firstEnd - o.driftWindowMs, asOf);
-          const input = {
-            t: rows.map((r) => r.t),
-            efficiency: rows.map((r) => r.drift ?? Number.NaN),
-            uSys: rows.map((r) => r.u_drift ?? Number.NaN),
-            operatingPoint: rows.map((r) => r.operating_point ?? Number.NaN),
-            use: rows.map((r) => (r.usable ? 1 : 0)),
-          };
-          const config = driftBandConfig(bands);
-          for (let end = firstEnd; end <= asOf; end += o.stepMs) {
-            const w = rollingWindows(input, end, o.stepMs, [o.driftWindowMs])[0];
-            if (w === undefined) continue;
-            const sample = { t: end, value: w.efficiency, u: w.uEfficiency, coverage: w.coverage };
-            const before = ds.band;
-            const step = stepBand(before, sample, config);
-            ma.samples++;
-            ds.band = step.state;
-            ds.evaluatedTo = end;
-            ds.last = { value: w.efficiency, u: w.uEfficiency, coverage: w.coverage };
-            ds.dirty = true;
-            const event = bandToAlertEvent(step.from, step.to, step.reason);
-            if (event === undefined) continue;
-            const from = end - o.driftWindowMs;
-            const level = step.to === 'alarm' ? -bands.alarm : -bands.warning;
-            const since =
-              step.to === 'normal'
-                ? undefined
-                : conditionEvidence(
-                    await driftConditionSince(
-                      client,
-                      m.id,
-                      level,
-                      bandOnsetMs(before, step.to, end),
-                      o.minPointsPerDay,
-                    ),
-                    end,
-                  );
-            const evidence = {
-              driftPts: w.efficiency,
-              uDriftPts: w.uEfficiency,
-              k: EXPANDED_K,
-              expandedUDriftPts: EXPANDED_K * w.uEfficiency,
-              coverage: w.coverage,
-              points: w.n,
-              operatingPoint: Number.isFinite(w.operatingPoint) ? w.operatingPoint : null,
-              baselineOperatingPoint: baseline.operatingPoint,
-              window: { from: iso(from), to: iso(end) },
-              link: trendLink(m.slug, from, end),
-              baselineId: baseline.id,
-              band: {
-                warningPts: -bands.warning,
-                alarmPts: -bands.alarm,
-                deadbandPts: bands.deadband,
-                onDelayS: bands.onDelayS,
-                offDelayS: bands.offDelayS,
-                minCoverage: bands.minCoverage,
-                source: bands.source,
-              },
-              reason: step.reason,
-              ...since?.fields,
-            };
-            const message =
-              since === undefined
-                ? `${m.name}: efficiency drift back inside the band: ${w.efficiency.toFixed(2)} points over the hour to ${iso(end)}.`
-                : `${m.name}: efficiency drift ${w.efficiency.toFixed(2)} ± ${(EXPANDED_K * w.uEfficiency).toFixed(2)} points (k = ${EXPANDED_K}) over the hour to ${iso(end)}, beyond the ${step.to} level of ${level} points; ${since.text}.`;
-            await ma.apply('drift', event, end, { evidence, message, conditionSinceMs: since?.ms });
-          }
-        }
-      } else {
-        // No baseline yet: no drift to judge; keep the band where it is and the clock moving.
-        ds.evaluatedTo = asOf;
-        ds.dirty = true;
-      }
-
-      // Instrument faults, one band per tag role (and one for the machine as a whole).
-      const instrKeys = [...states.keys()].filter((k) => k.startsWith('instrument:'));
-      let instrFrom = earliest;
-      for (const k of instrKeys)
-        instrFrom = Math.min(instrFrom, Math.max(states.get(k)?.evaluatedTo ?? earliest, earliest));
-      // With no instrument band yet, the rows the drift pass had not seen are the new ones.
-      const startFrom = instrKeys.length === 0 ? Math.max(scannedTo ?? earliest, earliest) : instrFrom;
-      const rows = await machineRows(client, m.id, startFrom, asOf);
-      const fconfig = faultBandConfig(bands);
-      for (const r of rows) {
-        const faults = faultsByKey(r.flags);
-        for (const key of faults.keys()) stateOf(key);
-        for (const [key, s] of states) {
-          if (!key.startsWith('instrument:')) continue;
-          if (s.evaluatedTo !== null && r.t <= s.evaluatedTo) continue;
-          const names = faults.get(key);
-          const before = s.band;
-          const step = stepBand(before, { t: r.t, value: names === undefined ? 0 : 1 }, fconfig);
-          s.band = step.state;
-          s.evaluatedTo = r.t;
-          s.last = { value: names === undefined ? 0 : 1, u: 0, coverage: 1 };
-          s.dirty = true;
-          if (!step.changed) continue;
-          const role = key.slice('instrument:'.length);
-          const from = r.t - (step.to === 'normal' ? bands.offDelayS : bands.onDelayS) * 1000;
-          const since =
-            step.to === 'normal'
-              ? undefined
-              : conditionEvidence(
-                  await instrumentConditionSince(client, m.id, key, bandOnsetMs(before, step.to, r.t), r.t),
-                  r.t,
-                );
-          const evidence = {
-            faults: names ?? [],
-            role,
-            tagId: tagByRole.get(role) ?? null,
-            window: { from: iso(from), to: iso(r.t + o.stepMs) },
-            link: trendLink(m.slug, from, r.t + o.stepMs),
-            onDelayS: bands.onDelayS,
-            offDelayS: bands.offDelayS,
-            reason: step.reason,
-            ...since?.fields,
-          };
-          const what = role === 'machine' ? 'the machine' : `tag role ${role}`;
-          const event: AlertEvent =
-            step.to === 'normal'
-              ? { type: 'clear', reason: `instrument fault gone for the off-delay: ${step.reason}` }
-              : {
-                  type: 'activate',
-                  severity: 'warning',
-                  reason: `instrument fault held for the on-delay: ${step.reason}`,
-                };
-          const message =
-            since === undefined
-              ? `${m.name}: instrument fault on ${what} has cleared.`
-              : `${m.name}: instrument fault on ${what} (${(names ?? []).join(', ')}); ${since.text}; figures resting on it are excluded, this is not an efficiency alert.`;
-          await ma.apply(key, event, r.t, { evidence, message, conditionSinceMs: since?.ms });
-        }
-      }
+      const scannedTo = stateOf(tick.states, 'drift').evaluatedTo;
+      await judgeDrift(tick, asOf, earliest);
+      await judgeInstruments(tick, asOf, earliest, scannedTo);
     }
-
-    await ma.tickAll(o.nowMs);
-    await saveBandStates(client, m.id, states);
+    await tick.ma.tickAll(o.nowMs);
+    await saveBandStates(client, m.id, tick.states);
     await client.query(`UPDATE machine_status SET band_severity = $2 WHERE machine_id = $1`, [
       m.id,
-      states.get('drift')?.band.severity ?? 'normal',
+      tick.states.get('drift')?.band.severity ?? 'normal',
     ]);
-    await client.query('COMMIT');
-    return { samples: ma.samples, transitions: ma.transitions };
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
+    return { samples: tick.ma.samples, transitions: tick.ma.transitions };
+  });
 }
 
 /** One alert pass over every machine not retired (or the given ones). */

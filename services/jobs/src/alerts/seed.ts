@@ -2,6 +2,7 @@
  * Test support (invented data): a site, machines and result rows written straight into the
  * database, so that the analysis and alert tests do not depend on the compute job.
  */
+import { gaussian, mulberry32 } from '@isentrope/thermo';
 import type pg from 'pg';
 import { ensureResultPartitions } from '../queries/results.js';
 
@@ -151,21 +152,8 @@ export async function seedBaseline(
   return (r.rows[0] as { id: number }).id;
 }
 
-/** A seeded pseudo-random generator (mulberry32) and a normal deviate (Box-Muller), common practice, no source. */
+/** A seeded uniform generator and normal deviates from it (the thermo package's mulberry32 and Box-Muller). */
 export function rng(seed: number): { uniform: () => number; normal: () => number } {
-  let a = seed >>> 0;
-  const uniform = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return {
-    uniform,
-    normal: () => {
-      const u1 = Math.max(uniform(), 1e-12);
-      return Math.sqrt(-2 * Math.log(u1)) * Math.cos(2 * Math.PI * uniform());
-    },
-  };
+  const uniform = mulberry32(seed);
+  return { uniform, normal: gaussian(uniform) };
 }

@@ -9,49 +9,23 @@
 import {
   type AlertEvent,
   type AlertState,
-  type AlertStatus,
   CAUTION,
   initialAlert,
+  STATUS_TO_STORED,
+  type StoredAlertState,
   stepAlert,
+  storedAlertState,
 } from '@isentrope/monitor';
-import { appendAudit } from '@isentrope/store';
-import type { Queryable } from '../queries/machines.js';
+import { appendAudit, type Queryable } from '@isentrope/store';
 import type { AlertSeverityColumn } from './config.js';
 import { isoSeconds } from './times.js';
-
-export type AlertDbState =
-  | 'normal'
-  | 'active_unacknowledged'
-  | 'active_acknowledged'
-  | 'returned_unacknowledged'
-  | 'shelved'
-  | 'suppressed'
-  | 'out_of_service';
-
-/** Stored states (migrations/0003) to the reducer's statuses (packages/monitor/src/alerts.ts). */
-export const DB_TO_STATUS: Readonly<Record<Exclude<AlertDbState, 'suppressed'>, AlertStatus>> = {
-  normal: 'normal',
-  active_unacknowledged: 'active-unack',
-  active_acknowledged: 'active-ack',
-  returned_unacknowledged: 'rtn-unack',
-  shelved: 'shelved',
-  out_of_service: 'out-of-service',
-};
-export const STATUS_TO_DB: Readonly<Record<AlertStatus, AlertDbState>> = {
-  normal: 'normal',
-  'active-unack': 'active_unacknowledged',
-  'active-ack': 'active_acknowledged',
-  'rtn-unack': 'returned_unacknowledged',
-  shelved: 'shelved',
-  'out-of-service': 'out_of_service',
-};
 
 export interface OpenAlertRow {
   id: number;
   category: 'drift' | 'instrument';
   tag_id: number | null;
   level: 'warning' | 'alarm';
-  state: AlertDbState;
+  state: StoredAlertState;
   shelved_until_ms: number | null;
   shelved_by: string | null;
   cleared_at: Date | null;
@@ -69,28 +43,16 @@ export async function lockOpenAlerts(db: Queryable, machineId: number): Promise<
   return res.rows;
 }
 
-/**
- * The reducer's state of a stored row (the same reading as the API's): the condition is active in
- * the active states, inactive once returned or normal; while shelved or out of service it is
- * active unless cleared_at is set (this job sets it when the condition returns).
- */
+/** The reducer's state of a stored row (packages/monitor storedAlertState). */
 export function rowToState(a: OpenAlertRow): AlertState | undefined {
-  if (a.state === 'suppressed') return undefined; // not a reducer state: left to the operator
-  const status = DB_TO_STATUS[a.state];
-  const conditionActive =
-    status === 'active-unack' || status === 'active-ack'
-      ? true
-      : status === 'rtn-unack' || status === 'normal'
-        ? false
-        : a.cleared_at === null;
-  return {
-    type: a.category === 'instrument' ? 'instrument-fault' : 'drift',
-    status,
-    conditionActive,
-    severity: a.level,
-    ...(a.shelved_until_ms !== null ? { shelvedUntil: a.shelved_until_ms } : {}),
-    ...(a.shelved_by !== null ? { shelvedBy: a.shelved_by } : {}),
-  };
+  return storedAlertState({
+    state: a.state,
+    category: a.category,
+    level: a.level,
+    cleared: a.cleared_at !== null,
+    shelvedUntilMs: a.shelved_until_ms,
+    shelvedBy: a.shelved_by,
+  });
 }
 
 export interface AlertTarget {
@@ -124,6 +86,126 @@ export function withCaution(message: string): string {
   return `${message} ${CAUTION}`;
 }
 
+type Step = ReturnType<typeof stepAlert>;
+type Evidence = Record<string, unknown> | undefined;
+
+/** A new alert row for the target in the step's state. */
+async function insertAlertRow(
+  db: Queryable,
+  target: AlertTarget,
+  event: AlertEvent,
+  s: Step['state'],
+  at: number,
+  ctx: ConditionContext | undefined,
+  evidence: Evidence,
+): Promise<OpenAlertRow> {
+  const level = event.type === 'activate' ? event.severity : 'warning';
+  const ins = await db.query<{ id: number }>(
+    `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, evidence, raised_at, updated_at,
+                         condition_since)
+     VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $9, $10) RETURNING id::int`,
+    [
+      target.machineId,
+      target.category,
+      target.tagId,
+      level,
+      target.severity,
+      STATUS_TO_STORED[s.status],
+      withCaution(ctx?.message ?? `${target.category} condition active`),
+      JSON.stringify(evidence ?? { caution: CAUTION }),
+      new Date(at),
+      new Date(ctx?.conditionSinceMs ?? at),
+    ],
+  );
+  return {
+    id: (ins.rows[0] as { id: number }).id,
+    category: target.category,
+    tag_id: target.tagId,
+    level,
+    state: STATUS_TO_STORED[s.status],
+    shelved_until_ms: null,
+    shelved_by: null,
+    cleared_at: null,
+    evidence: evidence ?? {},
+  };
+}
+
+/** The open row moved to the step's state: level and evidence of an activation, the return time of a clear. */
+async function updateAlertRow(
+  db: Queryable,
+  open: OpenAlertRow,
+  event: AlertEvent,
+  s: Step['state'],
+  at: number,
+  ctx: ConditionContext | undefined,
+  evidence: Evidence,
+): Promise<OpenAlertRow> {
+  const when = new Date(at);
+  const activate = event.type === 'activate';
+  const clear = event.type === 'clear';
+  const level = activate ? event.severity : open.level;
+  const clearedAt = activate ? null : clear ? (open.cleared_at ?? when) : open.cleared_at;
+  const newEvidence = activate
+    ? (evidence ?? open.evidence)
+    : clear
+      ? { ...open.evidence, returnedAt: isoSeconds(at), returnedWith: ctx?.evidence ?? null }
+      : open.evidence;
+  await db.query(
+    `UPDATE alerts SET state = $2, level = $3, evidence = $4, cleared_at = $5,
+            message = CASE WHEN $6::text IS NULL THEN message ELSE $6 END,
+            shelved_until = $7, shelved_by = $8, updated_at = $9,
+            condition_since = CASE WHEN $10::timestamptz IS NULL THEN condition_since ELSE $10 END
+      WHERE id = $1`,
+    [
+      open.id,
+      STATUS_TO_STORED[s.status],
+      level,
+      JSON.stringify(newEvidence),
+      clearedAt,
+      activate && ctx !== undefined ? withCaution(ctx.message) : null,
+      s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
+      s.shelvedBy ?? null,
+      when,
+      activate ? new Date(ctx?.conditionSinceMs ?? at) : null,
+    ],
+  );
+  return {
+    ...open,
+    level,
+    state: STATUS_TO_STORED[s.status],
+    shelved_until_ms: s.shelvedUntil ?? null,
+    shelved_by: s.shelvedBy ?? null,
+    cleared_at: clearedAt,
+    evidence: newEvidence,
+  };
+}
+
+/** One alert_events row (which enqueues its notifications) and one audit row per transition. */
+async function recordTransitions(db: Queryable, id: number, step: Step, evidence: Evidence): Promise<void> {
+  for (const t of step.transitions) {
+    const ev = await db.query<{ id: number }>(
+      `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note, data)
+       VALUES ($1, $2, $3, $4, 'system', $5, $6) RETURNING id::int`,
+      [
+        id,
+        new Date(t.at),
+        STATUS_TO_STORED[t.from],
+        STATUS_TO_STORED[t.to],
+        t.reason,
+        JSON.stringify({ reason: t.reason, evidence: evidence ?? null, caution: CAUTION }),
+      ],
+    );
+    await appendAudit(db, {
+      actor: 'system',
+      action: 'alert.transition',
+      entity: 'alert',
+      entityId: id,
+      before: { state: STATUS_TO_STORED[t.from] },
+      after: { state: STATUS_TO_STORED[t.to], reason: t.reason, eventId: ev.rows[0]?.id ?? null },
+    });
+  }
+}
+
 /**
  * Apply a condition event (activate / clear) or a tick at time `at` [ms] to the target's open
  * alert (or a new one), store the row, its events and the audit rows.
@@ -143,107 +225,17 @@ export async function applyAlertEvent(
   if (step.rejected !== undefined) return { alertId: open?.id, transitions: 0, open };
   if (event.type === 'tick' && step.transitions.length === 0)
     return { alertId: open?.id, transitions: 0, open };
-  const s = step.state;
-  const when = new Date(at);
+  if (open === undefined && step.state.status === 'normal')
+    return { alertId: undefined, transitions: 0, open: undefined };
   const evidence = ctx === undefined ? undefined : { ...ctx.evidence, caution: CAUTION };
-  let id = open?.id;
-  let row = open;
-  if (open === undefined) {
-    if (s.status === 'normal') return { alertId: undefined, transitions: 0, open: undefined };
-    const level = event.type === 'activate' ? event.severity : 'warning';
-    const ins = await db.query<{ id: number }>(
-      `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, evidence, raised_at, updated_at,
-                           condition_since)
-       VALUES ($1, $2, $3, $4, $5, $6, $7, $8, $9, $9, $10) RETURNING id::int`,
-      [
-        target.machineId,
-        target.category,
-        target.tagId,
-        level,
-        target.severity,
-        STATUS_TO_DB[s.status],
-        withCaution(ctx?.message ?? `${target.category} condition active`),
-        JSON.stringify(evidence ?? { caution: CAUTION }),
-        when,
-        new Date(ctx?.conditionSinceMs ?? at),
-      ],
-    );
-    id = (ins.rows[0] as { id: number }).id;
-    row = {
-      id,
-      category: target.category,
-      tag_id: target.tagId,
-      level,
-      state: STATUS_TO_DB[s.status],
-      shelved_until_ms: null,
-      shelved_by: null,
-      cleared_at: null,
-      evidence: evidence ?? {},
-    };
-  } else {
-    const activate = event.type === 'activate';
-    const clear = event.type === 'clear';
-    const level = activate ? event.severity : open.level;
-    const clearedAt = activate ? null : clear ? (open.cleared_at ?? when) : open.cleared_at;
-    const newEvidence = activate
-      ? (evidence ?? open.evidence)
-      : clear
-        ? { ...open.evidence, returnedAt: isoSeconds(at), returnedWith: ctx?.evidence ?? null }
-        : open.evidence;
-    await db.query(
-      `UPDATE alerts SET state = $2, level = $3, evidence = $4, cleared_at = $5,
-              message = CASE WHEN $6::text IS NULL THEN message ELSE $6 END,
-              shelved_until = $7, shelved_by = $8, updated_at = $9,
-              condition_since = CASE WHEN $10::timestamptz IS NULL THEN condition_since ELSE $10 END
-        WHERE id = $1`,
-      [
-        open.id,
-        STATUS_TO_DB[s.status],
-        level,
-        JSON.stringify(newEvidence),
-        clearedAt,
-        activate && ctx !== undefined ? withCaution(ctx.message) : null,
-        s.shelvedUntil === undefined ? null : new Date(s.shelvedUntil),
-        s.shelvedBy ?? null,
-        when,
-        activate ? new Date(ctx?.conditionSinceMs ?? at) : null,
-      ],
-    );
-    row = {
-      ...open,
-      level,
-      state: STATUS_TO_DB[s.status],
-      shelved_until_ms: s.shelvedUntil ?? null,
-      shelved_by: s.shelvedBy ?? null,
-      cleared_at: clearedAt,
-      evidence: newEvidence,
-    };
-  }
-  for (const t of step.transitions) {
-    const ev = await db.query<{ id: number }>(
-      `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note, data)
-       VALUES ($1, $2, $3, $4, 'system', $5, $6) RETURNING id::int`,
-      [
-        id,
-        new Date(t.at),
-        STATUS_TO_DB[t.from],
-        STATUS_TO_DB[t.to],
-        t.reason,
-        JSON.stringify({ reason: t.reason, evidence: evidence ?? null, caution: CAUTION }),
-      ],
-    );
-    await appendAudit(db, {
-      actor: 'system',
-      action: 'alert.transition',
-      entity: 'alert',
-      entityId: id,
-      before: { state: STATUS_TO_DB[t.from] },
-      after: { state: STATUS_TO_DB[t.to], reason: t.reason, eventId: ev.rows[0]?.id ?? null },
-    });
-  }
+  const row =
+    open === undefined
+      ? await insertAlertRow(db, target, event, step.state, at, ctx, evidence)
+      : await updateAlertRow(db, open, event, step.state, at, ctx, evidence);
+  await recordTransitions(db, row.id, step, evidence);
   return {
-    alertId: id,
+    alertId: row.id,
     transitions: step.transitions.length,
-    open: row === undefined || row.state === 'normal' ? undefined : row,
+    open: row.state === 'normal' ? undefined : row,
   };
 }

@@ -15,12 +15,13 @@ import {
   type PolynomialBaseline,
 } from '@isentrope/monitor';
 import { baselineSchema } from '@isentrope/plant';
-import { appendAudit } from '@isentrope/store';
-import type { Queryable } from '../queries/machines.js';
-
-/** Results that a baseline fit or a rolling window may use (steady, valid, no instrument fault). */
-export const USABLE_RESULT_SQL = `steady AND valid AND efficiency IS NOT NULL
-  AND NOT EXISTS (SELECT 1 FROM unnest(flags) AS f(flag) WHERE f.flag LIKE 'fault:%')`;
+import {
+  appendAudit,
+  type BaselineRow,
+  type Queryable,
+  readActiveBaselineRow,
+  USABLE_RESULT_SQL,
+} from '@isentrope/store';
 
 export interface StoredBaseline {
   readonly id: number;
@@ -32,27 +33,12 @@ export interface StoredBaseline {
   readonly referenceToMs: number;
 }
 
-interface BaselineDb {
-  id: number;
-  machine_id: number;
-  operating_point: StoredBaseline['operatingPoint'];
-  coefficients: number[];
-  x_min: number | null;
-  x_max: number | null;
-  n: number;
-  residual_std: number | null;
-  r_squared: number | null;
-  statistics: { model?: Baseline } & Record<string, unknown>;
-  from_ms: number;
-  to_ms: number;
-}
-
 /**
  * A baseline row written without the fitted model (coefficients only): the polynomial itself,
  * with no covariance (its uncertainty is then unknown and taken as 0; the row says so by having
  * no model).
  */
-function modelFromCoefficients(r: BaselineDb): PolynomialBaseline {
+function modelFromCoefficients(r: BaselineRow): PolynomialBaseline {
   const c = r.coefficients.length >= 2 ? r.coefficients : [r.coefficients[0] ?? Number.NaN, 0];
   const degree = Math.min(3, c.length - 1) as 1 | 2 | 3;
   const p = degree + 1;
@@ -76,16 +62,9 @@ export async function readActiveBaseline(
   db: Queryable,
   machineId: number,
 ): Promise<StoredBaseline | undefined> {
-  const res = await db.query<BaselineDb>(
-    `SELECT id::int, machine_id, operating_point, coefficients, x_min, x_max, n, residual_std, r_squared, statistics,
-            (extract(epoch FROM reference_from) * 1000)::float8 AS from_ms,
-            (extract(epoch FROM reference_to) * 1000)::float8 AS to_ms
-       FROM baselines WHERE machine_id = $1 AND active`,
-    [machineId],
-  );
-  const r = res.rows[0];
+  const r = await readActiveBaselineRow(db, machineId);
   if (r === undefined) return undefined;
-  const m = r.statistics.model;
+  const m = r.statistics.model as Baseline | undefined;
   const model =
     m !== undefined && (m.kind === 'polynomial' || m.kind === 'binned') ? m : modelFromCoefficients(r);
   return {
@@ -93,8 +72,8 @@ export async function readActiveBaseline(
     machineId: r.machine_id,
     operatingPoint: r.operating_point,
     model,
-    referenceFromMs: r.from_ms,
-    referenceToMs: r.to_ms,
+    referenceFromMs: r.reference_from.getTime(),
+    referenceToMs: r.reference_to.getTime(),
   };
 }
 
@@ -102,6 +81,51 @@ export type BaselineFitOutcome =
   | { readonly status: 'fitted'; readonly baseline: StoredBaseline }
   | { readonly status: 'no-spec' | 'waiting-for-results' | 'taken-elsewhere' }
   | { readonly status: 'failed'; readonly code: string; readonly message: string };
+
+type BaselineSpec = ReturnType<typeof baselineSchema.parse>;
+
+/** Store a fitted baseline as the active one unless another instance stored one first (then undefined). */
+async function insertSpecBaseline(
+  db: Queryable,
+  machineId: number,
+  spec: BaselineSpec,
+  model: Baseline,
+  method: BaselineFitOptions['method'],
+  nowMs: number,
+): Promise<number | undefined> {
+  const fromMs = Date.parse(spec.reference.from);
+  const toMs = Date.parse(spec.reference.to);
+  const coefficients =
+    model.kind === 'polynomial' ? [...model.coefficients] : [model.bins[0]?.median ?? Number.NaN];
+  const ins = await db.query<{ id: number }>(
+    `INSERT INTO baselines (machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
+                            residual_std, r_squared, statistics, active, created_at, created_by)
+     VALUES ($1, $2, to_timestamp($3::float8 / 1000), to_timestamp($4::float8 / 1000), $5, $6, $7, $8, $9, $10, $11, true,
+             to_timestamp($12::float8 / 1000), 'system')
+     ON CONFLICT (machine_id) WHERE active DO NOTHING
+     RETURNING id::int`,
+    [
+      machineId,
+      spec.operatingPoint,
+      fromMs,
+      toMs,
+      coefficients,
+      model.xMin,
+      model.xMax,
+      model.n,
+      Number.isFinite(model.residualStd) ? model.residualStd : null,
+      Number.isFinite(model.r2) ? model.r2 : null,
+      JSON.stringify({
+        model,
+        method,
+        degree: spec.degree,
+        source: 'plant file reference period',
+      }),
+      nowMs,
+    ],
+  );
+  return ins.rows[0]?.id;
+}
 
 /**
  * Fit and store the baseline the plant file asks for, if the machine has none active. Waits until
@@ -146,36 +170,7 @@ export async function fitBaselineFromSpec(
     if (error instanceof MonitorError) return { status: 'failed', code: error.code, message: error.message };
     throw error;
   }
-  const coefficients =
-    model.kind === 'polynomial' ? [...model.coefficients] : [model.bins[0]?.median ?? Number.NaN];
-  const ins = await db.query<{ id: number }>(
-    `INSERT INTO baselines (machine_id, operating_point, reference_from, reference_to, coefficients, x_min, x_max, n,
-                            residual_std, r_squared, statistics, active, created_at, created_by)
-     VALUES ($1, $2, to_timestamp($3::float8 / 1000), to_timestamp($4::float8 / 1000), $5, $6, $7, $8, $9, $10, $11, true,
-             to_timestamp($12::float8 / 1000), 'system')
-     ON CONFLICT (machine_id) WHERE active DO NOTHING
-     RETURNING id::int`,
-    [
-      machineId,
-      spec.operatingPoint,
-      fromMs,
-      toMs,
-      coefficients,
-      model.xMin,
-      model.xMax,
-      model.n,
-      Number.isFinite(model.residualStd) ? model.residualStd : null,
-      Number.isFinite(model.r2) ? model.r2 : null,
-      JSON.stringify({
-        model,
-        method: options.method,
-        degree: spec.degree,
-        source: 'plant file reference period',
-      }),
-      nowMs,
-    ],
-  );
-  const id = ins.rows[0]?.id;
+  const id = await insertSpecBaseline(db, machineId, spec, model, options.method, nowMs);
   if (id === undefined) return { status: 'taken-elsewhere' };
   await appendAudit(db, {
     actor: 'system',

@@ -12,17 +12,11 @@
  *     date of reaching the alarm band (packages/monitor/src/degradation.ts).
  */
 import { CAUTION, computeDrift, degradation } from '@isentrope/monitor';
-import { inTransaction } from '@isentrope/store';
+import { inTransaction, type Queryable, USABLE_RESULT_SQL } from '@isentrope/store';
 import type pg from 'pg';
 import { bandsFor } from '../alerts/config.js';
 import { runGaugeAbsoluteOnce } from '../instrument/gauge-absolute.js';
-import type { Queryable } from '../queries/machines.js';
-import {
-  fitBaselineFromSpec,
-  readActiveBaseline,
-  type StoredBaseline,
-  USABLE_RESULT_SQL,
-} from './baseline.js';
+import { fitBaselineFromSpec, readActiveBaseline, type StoredBaseline } from './baseline.js';
 import { finiteOrNull, type WindowFigure, windowFigure } from './windows.js';
 
 const DAY_MS = 86_400_000;
@@ -271,6 +265,17 @@ export async function dailyDriftMeans(
 const date = (ms: number | undefined): Date | null =>
   ms !== undefined && Number.isFinite(ms) ? new Date(ms) : null;
 
+/** The seven machine_status columns of one window, in their order. */
+const windowColumns = (w: WindowSummary | undefined): unknown[] => [
+  w?.efficiency.n ?? 0,
+  finiteOrNull(w?.efficiency.coverage),
+  finiteOrNull(w?.efficiency.mean),
+  finiteOrNull(w?.efficiency.u),
+  finiteOrNull(w?.baselineEfficiency),
+  finiteOrNull(w?.drift.mean),
+  finiteOrNull(w?.drift.u),
+];
+
 async function writeStatus(
   db: Queryable,
   m: MachineDb,
@@ -292,15 +297,6 @@ async function writeStatus(
   const days = await dailyDriftMeans(db, m.id, asOf - o.rateWindowDays * DAY_MS, asOf, o.minPointsPerDay);
   const deg = degradation(days.t, days.driftPts, { alarmPts });
   const f = deg.forecast;
-  const win = (w: WindowSummary | undefined): unknown[] => [
-    w?.efficiency.n ?? 0,
-    finiteOrNull(w?.efficiency.coverage),
-    finiteOrNull(w?.efficiency.mean),
-    finiteOrNull(w?.efficiency.u),
-    finiteOrNull(w?.baselineEfficiency),
-    finiteOrNull(w?.drift.mean),
-    finiteOrNull(w?.drift.u),
-  ];
   await db.query(
     `INSERT INTO machine_status (machine_id, as_of, updated_at, baseline_id,
         n_1h, coverage_1h, efficiency_1h, u_efficiency_1h, baseline_efficiency_1h, drift_1h, u_drift_1h,
@@ -331,9 +327,9 @@ async function writeStatus(
       m.id,
       asOf,
       baseline?.id ?? null,
-      ...win(w1),
-      ...win(w24),
-      ...win(w7),
+      ...windowColumns(w1),
+      ...windowColumns(w24),
+      ...windowColumns(w7),
       finiteOrNull(w1?.operatingPoint),
       o.rateWindowDays,
       deg.n,

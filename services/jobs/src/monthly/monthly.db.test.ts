@@ -1,9 +1,9 @@
 import { CAUTION, localDays } from '@isentrope/monitor';
+import { readDailyDriftMeans } from '@isentrope/store';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createTestDatabase, type TestDatabase } from '../../../../test/support/database.js';
 import { seedBaseline, seedResults, seedTestMachine, seedTestSite } from '../alerts/seed.js';
 import { runAnalysisOnce } from '../analysis/job.js';
-import { localDailyDriftMeans } from './days.js';
 import { runMonthlyExport } from './job.js';
 
 let db: TestDatabase;
@@ -173,7 +173,7 @@ describe('monthly export in the site time zone', () => {
       ...localDays('America/Chicago', '2026-03-08', 1),
       ...localDays('America/Chicago', '2026-03-31', 2),
     ];
-    const means = await localDailyDriftMeans(db.pool, machineId, days, 1);
+    const means = await readDailyDriftMeans(db.pool, machineId, days, 1);
     expect(means.n).toEqual([2, 1, 1]);
     // 8 March: mid-point of 06:00 to 05:00 UTC next day; drift 100 x 0.65 - 60 = 5 points.
     expect(means.t[0]).toBe(Date.UTC(2026, 2, 8, 17, 30));

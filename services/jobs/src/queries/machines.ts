@@ -2,11 +2,11 @@
  * Reads the plant configuration the jobs need. Written here because packages/store has no
  * reader for it yet; move to the store when it has one.
  */
-
 import type { MachineRow, TagRow } from '@isentrope/compute';
-import type pg from 'pg';
+import type { Queryable } from '@isentrope/store';
 
-export type Queryable = Pick<pg.Pool, 'query'> | Pick<pg.PoolClient, 'query'>;
+/** The store's one declaration, re-exported for the modules that import it from here. */
+export type { Queryable };
 
 interface MachineDb {
   id: number;
