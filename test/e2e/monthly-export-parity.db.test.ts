@@ -45,7 +45,7 @@ describe('monthly export: on demand and by the schedule', () => {
       });
     await seedResults(db.pool, m.id, rows);
     await runAnalysisOnce(db.pool, { nowMs: APRIL, stepMs: 600_000, maxBatches: Number.POSITIVE_INFINITY });
-    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'viewer', 'planner-password'));
+    token = await createToken(db.pool, await createUser(db.pool, 'planner', 'engineer', 'planner-password'));
     app = await buildTestApp(db.pool, { energyPrice: PRICE, now: () => NOW });
   });
   afterAll(async () => {
