@@ -56,15 +56,10 @@ const here = dirname(fileURLToPath(import.meta.url));
 export const PUBLIC_DIR = join(here, '..', 'public');
 const UPLOT_DIR = join(dirname(createRequire(import.meta.url).resolve('uplot')), '.');
 
-export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
-  const ctx: ApiContext = {
-    ...deps,
-    metrics: deps.metrics ?? createMetricsRegistry(),
-    now: deps.now ?? Date.now,
-  };
-  const log = deps.logger.child({ module: 'api' });
+/** The fastify instance with its compilers, error handling and request screen (Host rule, odd paths). */
+function createServer(deps: ApiDependencies, log: FastifyBaseLogger): ApiApp {
   const app = Fastify({
-    loggerInstance: log as FastifyBaseLogger,
+    loggerInstance: log,
     bodyLimit: deps.bodyLimit ?? 1024 * 1024,
     // Our error handler reports the id in problems; keep it short and unique per process.
     requestIdHeader: false,
@@ -87,7 +82,11 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     if (route.url.startsWith('/api/') && !route.url.startsWith('/api/docs') && route.schema === undefined)
       unschemed.push(`${String(route.method)} ${route.url}`);
   });
+  return app;
+}
 
+/** Security headers, the global rate limit and cookies. */
+async function registerProtection(app: ApiApp, deps: ApiDependencies): Promise<void> {
   await app.register(helmet, {
     contentSecurityPolicy: {
       directives: {
@@ -110,19 +109,20 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     await app.register(rateLimit, {
       max: limit.max,
       timeWindow: limit.timeWindowMs,
-      errorResponseBuilder: (_request, context) => {
-        const error = Object.assign(new Error(`rate limit of ${context.max} per ${context.after}`), {
+      errorResponseBuilder: (_request, context) =>
+        Object.assign(new Error(`rate limit of ${context.max} per ${context.after}`), {
           statusCode: 429,
           code: 'FST_RATE_LIMITED',
           max: context.max,
           after: context.after,
-        });
-        return error;
-      },
+        }),
     });
   }
   await app.register(cookie);
+}
 
+/** The OpenAPI document (with the caution) and its viewer. */
+async function registerOpenApi(app: ApiApp, deps: ApiDependencies): Promise<void> {
   await app.register(swagger, {
     openapi: {
       openapi: '3.0.3',
@@ -149,22 +149,27 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
   app.get('/api/openapi.json', { schema: { hide: true }, config: { role: 'public' } }, async () =>
     app.swagger(),
   );
+}
 
+/** Authentication, one plugin per resource, the mounted plugins (HTTP push) and the dashboard files. */
+async function registerRoutes(app: ApiApp, deps: ApiDependencies, ctx: ApiContext): Promise<void> {
   await app.register(authPlugin, { ctx });
   await app.register(metricsRoutes, { ctx });
   await app.register(healthRoutes, { prefix: '/api', deps });
-  await app.register(authRoutes, { prefix: '/api', ctx });
-  await app.register(plantRoutes, { prefix: '/api', ctx });
-  await app.register(machineRoutes, { prefix: '/api', ctx });
-  await app.register(resultRoutes, { prefix: '/api', ctx });
-  await app.register(baselineRoutes, { prefix: '/api', ctx });
-  await app.register(chartRoutes, { prefix: '/api', ctx });
-  await app.register(alertRoutes, { prefix: '/api', ctx });
-  await app.register(quarantineRoutes, { prefix: '/api', ctx });
-  await app.register(exportRoutes, { prefix: '/api', ctx });
+  for (const routes of [
+    authRoutes,
+    plantRoutes,
+    machineRoutes,
+    resultRoutes,
+    baselineRoutes,
+    chartRoutes,
+    alertRoutes,
+    quarantineRoutes,
+    exportRoutes,
+  ])
+    await app.register(routes, { prefix: '/api', ctx });
   for (const mount of deps.plugins ?? []) await app.register(async (scope) => mount(scope));
   await app.register(linkRoutes);
-
   await app.register(fastifyStatic, {
     root: PUBLIC_DIR,
     prefix: '/',
@@ -174,24 +179,39 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     },
   });
   await app.register(fastifyStatic, { root: UPLOT_DIR, prefix: '/vendor/uplot/', decorateReply: false });
+}
 
-  app.addHook('onReady', async () => {
-    try {
-      const admin = await ensureInitialAdmin(deps.pool, deps.adminPassword);
-      if (admin.created && admin.generatedPassword !== undefined) {
-        const generated = { username: admin.username, password: admin.generatedPassword };
-        if (deps.announceGeneratedAdminPassword !== undefined)
-          await deps.announceGeneratedAdminPassword(generated);
-        else
-          log.warn(
-            generated,
-            'first start: created the user "admin" with this generated password, shown once; change it or set ISENTROPE_ADMIN_PASSWORD',
-          );
-      } else if (admin.created)
-        log.info({ username: admin.username }, 'created the first admin from ISENTROPE_ADMIN_PASSWORD');
-    } catch (error) {
-      log.error({ err: error }, 'could not check for the first admin user');
-    }
-  });
+/** On the first start, the first admin user (from ISENTROPE_ADMIN_PASSWORD, or generated and told once). */
+async function announceFirstAdmin(deps: ApiDependencies, log: FastifyBaseLogger): Promise<void> {
+  try {
+    const admin = await ensureInitialAdmin(deps.pool, deps.adminPassword);
+    if (admin.created && admin.generatedPassword !== undefined) {
+      const generated = { username: admin.username, password: admin.generatedPassword };
+      if (deps.announceGeneratedAdminPassword !== undefined)
+        await deps.announceGeneratedAdminPassword(generated);
+      else
+        log.warn(
+          generated,
+          'first start: created the user "admin" with this generated password, shown once; change it or set ISENTROPE_ADMIN_PASSWORD',
+        );
+    } else if (admin.created)
+      log.info({ username: admin.username }, 'created the first admin from ISENTROPE_ADMIN_PASSWORD');
+  } catch (error) {
+    log.error({ err: error }, 'could not check for the first admin user');
+  }
+}
+
+export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
+  const ctx: ApiContext = {
+    ...deps,
+    metrics: deps.metrics ?? createMetricsRegistry(),
+    now: deps.now ?? Date.now,
+  };
+  const log = deps.logger.child({ module: 'api' }) as FastifyBaseLogger;
+  const app = createServer(deps, log);
+  await registerProtection(app, deps);
+  await registerOpenApi(app, deps);
+  await registerRoutes(app, deps, ctx);
+  app.addHook('onReady', () => announceFirstAdmin(deps, log));
   return app;
 }

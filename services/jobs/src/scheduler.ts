@@ -75,11 +75,10 @@ const LOCK_KEYS: Readonly<Record<JobName, number>> = {
   pack: 6,
 };
 
-export async function startJobs(deps: JobsDeps): Promise<JobsService> {
-  const instance = randomUUID();
-  const log = deps.logger.child({ module: 'jobs', instance });
-  const clock = deps.clock ?? Date.now;
-  const bodies: Partial<Record<JobName, (tickMs: number) => Promise<unknown>>> = {
+type JobBody = (tickMs: number) => Promise<unknown>;
+
+function jobBodies(deps: JobsDeps, log: Logger): Partial<Record<JobName, JobBody>> {
+  return {
     compute: (tickMs) =>
       runComputeOnce(deps.pool, {
         ...deps.config.compute,
@@ -90,59 +89,114 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
     ...analysisJobBodies({ pool: deps.pool, config: deps.config, logger: log }),
     ...deps.jobs,
   };
-  const connections = new Map<JobName, pg.Client>();
-  const running = new Set<Promise<unknown>>();
-  let stopped = false;
+}
 
-  const connection = async (job: JobName): Promise<pg.Client> => {
-    let c = connections.get(job);
+/** One database connection per job, kept for its session advisory lock; dropped when it fails. */
+class LockConnections {
+  private readonly connections = new Map<JobName, pg.Client>();
+  constructor(
+    private readonly databaseUrl: string,
+    private readonly log: Logger,
+  ) {}
+
+  async get(job: JobName): Promise<pg.Client> {
+    let c = this.connections.get(job);
     if (c === undefined) {
-      c = new pg.Client({ connectionString: deps.databaseUrl, application_name: `isentrope-jobs-${job}` });
+      c = new pg.Client({ connectionString: this.databaseUrl, application_name: `isentrope-jobs-${job}` });
       c.on('error', (err) => {
-        log.error({ err, job }, 'lock connection lost');
-        connections.delete(job);
+        this.log.error({ err, job }, 'lock connection lost');
+        this.connections.delete(job);
       });
       await c.connect();
-      connections.set(job, c);
+      this.connections.set(job, c);
     }
     return c;
-  };
+  }
+
+  async closeAll(): Promise<void> {
+    for (const c of this.connections.values()) await c.end().catch(() => {});
+    this.connections.clear();
+  }
+}
+
+/** Runs a job's body under its job_runs record, once the caller holds the job's lock. */
+async function runRecorded(
+  c: pg.Client,
+  run: { job: JobName; tickMs: number; instance: string; body: JobBody; log: Logger },
+): Promise<TickOutcome> {
+  const { job, tickMs } = run;
+  const done = await c.query(
+    `SELECT 1 FROM job_runs WHERE job = $1 AND (stats->>'tick')::float8 = $2 AND status IN ('ok', 'failed') LIMIT 1`,
+    [job, tickMs],
+  );
+  if (done.rows.length > 0) return 'done-elsewhere';
+  const inserted = await c.query<{ id: number }>(
+    `INSERT INTO job_runs (job, instance, stats) VALUES ($1, $2, jsonb_build_object('tick', $3::float8)) RETURNING id`,
+    [job, run.instance, tickMs],
+  );
+  const id = inserted.rows[0]?.id;
+  try {
+    const result = await run.body(tickMs);
+    await c.query(
+      `UPDATE job_runs SET status = 'ok', finished_at = now(), stats = stats || $2::jsonb WHERE id = $1`,
+      [id, JSON.stringify({ result: result ?? null })],
+    );
+    return 'ran';
+  } catch (err) {
+    run.log.error({ err, job, tickMs }, 'job failed');
+    await c.query(`UPDATE job_runs SET status = 'failed', finished_at = now(), error = $2 WHERE id = $1`, [
+      id,
+      err instanceof Error ? err.message : String(err),
+    ]);
+    return 'failed';
+  }
+}
+
+/** node-cron schedules for every job that has a body; node-cron's own log goes through ours. */
+function scheduleTicks(
+  bodies: Partial<Record<JobName, JobBody>>,
+  fire: (job: JobName) => Promise<unknown>,
+  log: Logger,
+): { stop: () => void | Promise<void> }[] {
+  cron.setLogger({
+    info: (m) => log.debug({ cron: m }, 'node-cron'),
+    warn: (m) => log.warn({ cron: m }, 'node-cron'),
+    error: (m, err) => log.error({ err: err ?? m }, 'node-cron'),
+    debug: (m) => log.trace({ cron: String(m) }, 'node-cron'),
+  });
+  const tasks: { stop: () => void | Promise<void> }[] = [];
+  for (const job of Object.keys(SCHEDULES) as JobName[]) {
+    if (bodies[job] === undefined) continue;
+    tasks.push(
+      cron.schedule(SCHEDULES[job], async () => void (await fire(job)), {
+        noOverlap: true,
+        name: `isentrope-${job}`,
+      }),
+    );
+  }
+  return tasks;
+}
+
+export async function startJobs(deps: JobsDeps): Promise<JobsService> {
+  const instance = randomUUID();
+  const log = deps.logger.child({ module: 'jobs', instance });
+  const clock = deps.clock ?? Date.now;
+  const bodies = jobBodies(deps, log);
+  const locks = new LockConnections(deps.databaseUrl, log);
+  const running = new Set<Promise<unknown>>();
+  let stopped = false;
 
   const tick = async (job: JobName, tickMs: number): Promise<TickOutcome> => {
     const body = bodies[job];
     if (body === undefined) return 'no-job';
-    const c = await connection(job);
+    const c = await locks.get(job);
     const got = await c.query<{ ok: boolean }>('SELECT pg_try_advisory_lock($1, $2) AS ok', [
       LOCK_CLASS,
       LOCK_KEYS[job],
     ]);
     if (got.rows[0]?.ok !== true) return 'locked';
     try {
-      const done = await c.query(
-        `SELECT 1 FROM job_runs WHERE job = $1 AND (stats->>'tick')::float8 = $2 AND status IN ('ok', 'failed') LIMIT 1`,
-        [job, tickMs],
-      );
-      if (done.rows.length > 0) return 'done-elsewhere';
-      const run = await c.query<{ id: number }>(
-        `INSERT INTO job_runs (job, instance, stats) VALUES ($1, $2, jsonb_build_object('tick', $3::float8)) RETURNING id`,
-        [job, instance, tickMs],
-      );
-      const id = run.rows[0]?.id;
-      try {
-        const result = await body(tickMs);
-        await c.query(
-          `UPDATE job_runs SET status = 'ok', finished_at = now(), stats = stats || $2::jsonb WHERE id = $1`,
-          [id, JSON.stringify({ result: result ?? null })],
-        );
-        return 'ran';
-      } catch (err) {
-        log.error({ err, job, tickMs }, 'job failed');
-        await c.query(
-          `UPDATE job_runs SET status = 'failed', finished_at = now(), error = $2 WHERE id = $1`,
-          [id, err instanceof Error ? err.message : String(err)],
-        );
-        return 'failed';
-      }
+      return await runRecorded(c, { job, tickMs, instance, body, log });
     } finally {
       await c.query('SELECT pg_advisory_unlock($1, $2)', [LOCK_CLASS, LOCK_KEYS[job]]);
     }
@@ -158,28 +212,9 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
     return p;
   };
 
-  const tasks: { stop: () => void | Promise<void> }[] = [];
+  let tasks: { stop: () => void | Promise<void> }[] = [];
   if (deps.manual !== true) {
-    // node-cron logs to the console by default; its lines go through our logger instead.
-    cron.setLogger({
-      info: (m) => log.debug({ cron: m }, 'node-cron'),
-      warn: (m) => log.warn({ cron: m }, 'node-cron'),
-      error: (m, err) => log.error({ err: err ?? m }, 'node-cron'),
-      debug: (m) => log.trace({ cron: String(m) }, 'node-cron'),
-    });
-    for (const job of Object.keys(SCHEDULES) as JobName[]) {
-      if (bodies[job] === undefined) continue;
-      const options = { noOverlap: true, name: `isentrope-${job}` };
-      tasks.push(
-        cron.schedule(
-          SCHEDULES[job],
-          async () => {
-            if (!stopped) await runTick(job, tickTime(job, clock()));
-          },
-          options,
-        ),
-      );
-    }
+    tasks = scheduleTicks(bodies, async (job) => !stopped && runTick(job, tickTime(job, clock())), log);
     // Work missed while no instance ran: compute and alerts catch up through their watermarks.
     if (bodies.compute !== undefined) void runTick('compute', tickTime('compute', clock()));
   }
@@ -191,8 +226,7 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
       stopped = true;
       for (const t of tasks) await t.stop();
       await Promise.allSettled([...running]);
-      for (const c of connections.values()) await c.end().catch(() => {});
-      connections.clear();
+      await locks.closeAll();
     },
   };
 }
