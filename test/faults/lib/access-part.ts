@@ -296,7 +296,7 @@ export async function accessPart(
   const routes = routesOf(doc);
   say(`\naccess: ${routes.length} routes in /api/openapi.json, as anonymous, viewer, engineer, admin`);
   const setup = await setUp(world);
-  const findings = await sweep(world, routes, setup, short ? INJECTIONS.slice(0, 2) : INJECTIONS);
+  const findings = await sweep(world, routes, setup, short ? INJECTIONS.slice(0, 1) : INJECTIONS);
   const flags = setup.setCookie.toLowerCase();
   const admin = setup.callers.find((c) => c.who === 'admin');
   const host = await foreignHost(world.app.options.port, admin?.cookie);

@@ -37,10 +37,13 @@ export async function waitQuiet(world: World, ms: number): Promise<boolean> {
 /**
  * OPC UA pushes the present value to a live subscription only: a value published while
  * Isentrope was down (killed, restarting) or the server was cut off reaches no one. Such
- * values (within 2 s before a fault and 20 s after it ended, for reconnection) are counted
+ * values (within 2 s before a fault and 20 s after it ended, for reconnection, and before the
+ * first start answered plus 20 s) are counted
  * as unreceivable, not lost; every other OPC UA value must be stored.
  */
-function receivable(value: SentValue, faults: readonly Fault[]): boolean {
+function receivable(value: SentValue, faults: readonly Fault[], firstHealthyAt: number): boolean {
+  // Before Isentrope first answered (and subscribed), the server already published.
+  if (value.time <= firstHealthyAt + 20_000) return false;
   return !faults.some(
     (f) =>
       (f.kind.startsWith('kill') || f.kind === 'OPC UA cut') &&
@@ -52,6 +55,7 @@ function receivable(value: SentValue, faults: readonly Fault[]): boolean {
 export async function checkFaultRun(
   world: World,
   faults: readonly Fault[],
+  firstHealthyAt: number,
 ): Promise<{ routes: RouteCount[]; note: string | undefined }> {
   const { rows, note } = await storedSamples(world.pool, ALL_FAULT_TAGS);
   const routes: RouteCount[] = [];
@@ -62,7 +66,7 @@ export async function checkFaultRun(
     const result = compare(sentAll, stored);
     let unreceivable = 0;
     if (route === 'opcua') {
-      const lost = result.missing.filter((v) => receivable(v, faults));
+      const lost = result.missing.filter((v) => receivable(v, faults, firstHealthyAt));
       unreceivable = result.missing.length - lost.length;
       result.missing = lost;
       // Values first published before the subscription existed are not "extra".

@@ -34,7 +34,7 @@ export function faultPlan(short: boolean): FaultPlan {
         dbOutageMs: [1 * SECOND, 4 * SECOND],
         uaOutageMs: [1 * SECOND, 3 * SECOND],
         readOnlyMs: [1 * SECOND, 4 * SECOND],
-        gapMs: [500, 2 * SECOND],
+        gapMs: [300, 1500],
       }
     : {
         kills: 40,
@@ -44,7 +44,7 @@ export function faultPlan(short: boolean): FaultPlan {
         dbOutageMs: [5 * SECOND, 120 * SECOND],
         uaOutageMs: [2 * SECOND, 20 * SECOND],
         readOnlyMs: [3 * SECOND, 25 * SECOND],
-        gapMs: [3 * SECOND, 15 * SECOND],
+        gapMs: [2 * SECOND, 8 * SECOND],
       };
 }
 
@@ -58,9 +58,9 @@ export async function faultPart(
   say(
     `faults: ${plan.kills} kills, ${plan.dbStops} database stops, ${plan.uaCuts} OPC UA cuts, ${plan.readOnly} read-only buffers`,
   );
-  const run = await runFaultLanes(world, random, plan, say, short ? 90_000 : 1_800_000);
+  const run = await runFaultLanes(world, random, plan, say, short ? 45_000 : 1_800_000);
   const quiet = await waitQuiet(world, short ? 60_000 : 300_000);
-  const { routes, note } = await checkFaultRun(world, run.faults);
+  const { routes, note } = await checkFaultRun(world, run.faults, world.firstHealthyAt);
   const kinds = new Map<FaultKind, number>();
   for (const f of run.faults) kinds.set(f.kind, (kinds.get(f.kind) ?? 0) + 1);
   say('\nFaults injected, by kind');

@@ -51,6 +51,7 @@ interface Round {
   ticks: number;
   ticksTwice: number;
   ticksMissed: number;
+  earlyNotified: boolean;
 }
 
 /** The ticks of each job in [from, to): counted runs per tick (ok or failed), and 10 s ticks with none. */
@@ -76,7 +77,7 @@ async function round(
   n: number,
   seconds: number,
   hook: Receiver,
-  dir: string,
+  say: (l: string) => void,
 ): Promise<Round> {
   const env = {
     ...world.env,
@@ -90,7 +91,7 @@ async function round(
     apps.push(
       new IsentropeProcess({
         env,
-        logFile: join(dir, `multi-${n}-${i}.log`),
+        logFile: join(world.dir, `multi-${n}-${i}.log`),
         port: await freePort(),
         user: runAsUser(),
       }),
@@ -98,15 +99,27 @@ async function round(
   const pool = new pg.Pool({ connectionString: url, max: 2 });
   try {
     await Promise.all(apps.map((a) => a.startUntilHealthy()));
-    const from = Date.now() + 12_000;
+    const from = Date.now() + 10_000;
     const machine = await pool.query<{ id: number }>(`SELECT id FROM machines ORDER BY id LIMIT 1`);
     const alert = await pool.query<{ id: number }>(
       `INSERT INTO alerts (machine_id, category, level, severity, state, message, raised_at) VALUES ($1, 'instrument', 'alarm', 'high', 'active_unacknowledged', 'INVENTED alert of the faults suite (${n} processes)', now()) RETURNING id::int`,
       [machine.rows[0]?.id],
     );
+    // One event at once after start (finding F3: before the first notifications tick there is no target row).
+    const early = await pool.query<{ id: number }>(
+      `INSERT INTO alert_events (alert_id, from_state, to_state, actor, note) VALUES ($1, 'normal', 'active_unacknowledged', 'system', 'INVENTED event at start') RETURNING id::int`,
+      [alert.rows[0]?.id],
+    );
+    const earlyId = early.rows[0]?.id ?? 0;
+    for (let i = 0; i < 30; i++) {
+      const t = await pool.query(`SELECT 1 FROM notifications WHERE name = 'config-webhook' AND enabled`);
+      if (t.rows.length > 0) break;
+      await sleep(1000);
+    }
     const ids: number[] = [];
     const end = Date.now() + seconds * 1000;
-    while (Date.now() < end - 12_000) {
+    // Events during the first half; the second half lets the outbox drain (a tick every 10 s).
+    while (Date.now() < end - (seconds * 1000) / 2) {
       for (let k = 0; k < 5; k++) {
         const e = await pool.query<{ id: number }>(
           `INSERT INTO alert_events (alert_id, from_state, to_state, actor, note) VALUES ($1, 'normal', 'active_unacknowledged', 'system', 'INVENTED event') RETURNING id::int`,
@@ -114,10 +127,21 @@ async function round(
         );
         ids.push(e.rows[0]?.id ?? 0);
       }
-      await sleep(3000);
+      await sleep(2000);
     }
-    await sleep(Math.max(0, end - Date.now()));
-    const t = await ticks(pool, from, Date.now() - 12_000);
+    while (Date.now() < end) {
+      const pending = await pool.query<{ n: number }>(
+        `SELECT count(*)::int AS n FROM deliveries WHERE status = 'pending'`,
+      );
+      if ((pending.rows[0]?.n ?? 0) === 0 && Date.now() > end - 10_000) break;
+      await sleep(1000);
+    }
+    const t = await ticks(pool, from, Date.now() - 2_000);
+    const left = await pool.query<{ status: string; n: number; err: string | null }>(
+      `SELECT status, count(*)::int AS n, max(last_error) AS err FROM deliveries WHERE status <> 'sent' GROUP BY 1`,
+    );
+    for (const row of left.rows)
+      say(`  ${n} processes: ${row.n} deliveries ${row.status}${row.err === null ? '' : ` (${row.err})`}`);
     const counts = ids.map((id) => hook.byEvent.get(id) ?? 0);
     return {
       processes: n,
@@ -125,6 +149,7 @@ async function round(
       received: counts.reduce((a, c) => a + c, 0),
       eventsTwice: counts.filter((c) => c > 1).length,
       eventsMissing: counts.filter((c) => c === 0).length,
+      earlyNotified: (hook.byEvent.get(earlyId) ?? 0) > 0,
       ticks: t.ticks,
       ticksTwice: t.twice,
       ticksMissed: t.missed,
@@ -152,11 +177,11 @@ export async function multiPart(
     if (r.code !== 0) throw new Error(`isentrope ${args.join(' ')} on faults_multi failed:\n${r.output}`);
   }
   const hook = await receiver();
-  const seconds = short ? 40 : 130;
+  const seconds = short ? 30 : 130;
   say(`\nseveral processes: 2, then 3, on one database, ${seconds} s each`);
   const rounds: Round[] = [];
   try {
-    for (const n of short ? [2] : [2, 3]) rounds.push(await round(world, url, n, seconds, hook, world.dir));
+    for (const n of short ? [2] : [2, 3]) rounds.push(await round(world, url, n, seconds, hook, say));
   } finally {
     await hook.close();
   }
@@ -196,6 +221,14 @@ export async function multiPart(
       target: `${r.processes} processes: each notification sent once`,
       ok: r.eventsTwice === 0 && r.eventsMissing === 0 && r.events > 0,
       detail: `${r.events} events, ${r.received} calls, ${r.eventsTwice} twice, ${r.eventsMissing} not sent`,
+    },
+    {
+      part: 'processes',
+      target: `${r.processes} processes: an alert event right after start is notified`,
+      ok: r.earlyNotified,
+      detail: r.earlyNotified ? 'sent' : 'never sent',
+      known:
+        'suite finding F3: the configured webhook target is created by the first notifications tick, not at start',
     },
   ]);
   return { verdicts, figures: { rounds: rounds.length } };

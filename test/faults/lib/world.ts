@@ -28,6 +28,8 @@ export interface World {
   readonly badFolder: string;
   readonly bufferDir: string;
   readonly env: Readonly<Record<string, string>>;
+  /** When Isentrope first answered /api/health [ms]. */
+  readonly firstHealthyAt: number;
   cleanup(): Promise<void>;
 }
 
@@ -100,7 +102,9 @@ export async function createWorld(random: Random, uaPeriodMs: number): Promise<W
     pool.on('error', () => {});
     cleanups.push(() => pool.end());
     await app.startUntilHealthy();
+    const firstHealthyAt = Date.now();
     return {
+      firstHealthyAt,
       dir,
       cluster,
       pool,
