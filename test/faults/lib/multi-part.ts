@@ -102,8 +102,9 @@ async function round(
     const from = Date.now() + 10_000;
     const machine = await pool.query<{ id: number }>(`SELECT id FROM machines ORDER BY id LIMIT 1`);
     const alert = await pool.query<{ id: number }>(
-      `INSERT INTO alerts (machine_id, category, level, severity, state, message, raised_at) VALUES ($1, 'instrument', 'alarm', 'high', 'active_unacknowledged', 'INVENTED alert of the faults suite (${n} processes)', now()) RETURNING id::int`,
-      [machine.rows[0]?.id],
+      // Each round its own tag: at most one open alert per machine, category and tag.
+      `INSERT INTO alerts (machine_id, category, tag_id, level, severity, state, message, raised_at) VALUES ($1, 'instrument', (SELECT min(id) + $2 FROM tags), 'alarm', 'high', 'active_unacknowledged', 'INVENTED alert of the faults suite (${n} processes)', now()) RETURNING id::int`,
+      [machine.rows[0]?.id, n],
     );
     // One event at once after start (finding F3: before the first notifications tick there is no target row).
     const early = await pool.query<{ id: number }>(
