@@ -33,6 +33,17 @@ export default defineConfig({
           hookTimeout: 120_000,
         },
       },
+      {
+        // The short fault run (test/faults): a real Isentrope on a PostgreSQL cluster of its own,
+        // so it needs no test database and runs once, not again on the embedded server.
+        test: {
+          name: 'faults',
+          include: ['test/faults/**/*.faults.test.ts'],
+          setupFiles: failOnConsole,
+          pool: 'forks',
+          testTimeout: 600_000,
+        },
+      },
     ],
   },
 });
