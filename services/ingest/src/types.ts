@@ -1,3 +1,4 @@
+import type { WriteConflict } from '@isentrope/store';
 /** Samples as the ingest hands them to the store, and the sink that stores them. */
 
 /**
@@ -33,20 +34,9 @@ export interface SampleSink {
 
 /**
  * A sample refused because its key (tag, time) already holds another value or quality: the
- * first stored value is kept (the store's rule, INTERFACES.md section A).
+ * first stored value is kept (the store's rule; one declaration, the store's WriteConflict).
  */
-export interface SampleConflict {
-  readonly tagId: number;
-  /** [ms since epoch] */
-  readonly time: number;
-  /** The refused value and quality. */
-  readonly value: number;
-  readonly quality: number;
-  /** The value and quality kept. */
-  readonly storedValue: number;
-  readonly storedQuality: number;
-  readonly ref?: number;
-}
+export type SampleConflict = WriteConflict;
 
 /** What a committed write did with the samples it was given. */
 export interface WriteReport {
