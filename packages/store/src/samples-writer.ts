@@ -27,6 +27,7 @@ import { StoreError } from './errors.js';
 import { ensurePartitions, forgetPartitions } from './partitions.js';
 import { QUALITY_GOOD, qualityClass } from './quality.js';
 import {
+  COPY_ROLLUP_STAGE,
   encodeBatchRollups,
   insertStagedSql,
   MERGE_ROLLUP_STAGE,
@@ -242,8 +243,6 @@ const SAMPLES_STAGE_DDL = `CREATE TEMP TABLE IF NOT EXISTS samples_stage
 // transaction, so a rolled-back batch cannot take them away behind this cache).
 const staged = new WeakSet<pg.PoolClient>();
 
-const STAGE_ROLLUPS =
-  'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)';
 const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_time)';
 
 /**
@@ -333,7 +332,7 @@ async function copyFast(
     if (pgCode(error) !== '23505') throw error;
     await client.query('ROLLBACK TO SAVEPOINT fast');
     stored = await copyBuffer(client, COPY_SAMPLES, batch.data);
-    await copyBuffer(client, STAGE_ROLLUPS, encodeBatchRollups(batch.sorted));
+    await copyBuffer(client, COPY_ROLLUP_STAGE, encodeBatchRollups(batch.sorted));
     await client.query(MERGE_ROLLUP_STAGE);
     lap('rollups');
     return { stored, merge: '' };

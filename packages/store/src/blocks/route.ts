@@ -11,7 +11,7 @@ import { decodeBlock } from '@isentrope/codec';
 import type pg from 'pg';
 import type { SampleRow } from '../copy-binary.js';
 import { StoreError } from '../errors.js';
-import { encodeBatchRollups, MERGE_ROLLUP_STAGE, ROLLUP_STAGE_DDL } from '../rollups.js';
+import { COPY_ROLLUP_STAGE, encodeBatchRollups, MERGE_ROLLUP_STAGE, ROLLUP_STAGE_DDL } from '../rollups.js';
 import { type BlockRow, blockRow } from './block-rows.js';
 import { copyIn } from './copy-in.js';
 import { type BlockWriteConflict, mergeRowsIntoColumns, type RefRow } from './merge.js';
@@ -174,11 +174,7 @@ export async function mergeIntoBlocks(
 async function mergeRollups(client: pg.ClientBase, rows: RefRow[]): Promise<void> {
   rows.sort((a, b) => a.tagId - b.tagId || a.time - b.time);
   await client.query(ROLLUP_STAGE_DDL);
-  await copyIn(
-    client,
-    'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)',
-    encodeBatchRollups(rows),
-  );
+  await copyIn(client, COPY_ROLLUP_STAGE, encodeBatchRollups(rows));
   await client.query(MERGE_ROLLUP_STAGE);
   await client.query('TRUNCATE rollup_stage');
 }
