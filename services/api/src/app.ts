@@ -25,7 +25,7 @@ import { ensureInitialAdmin } from './auth/credentials.js';
 import { authPlugin } from './auth/plugin.js';
 import { answerUndecodableUrl, installRequestScreen } from './auth/request-screen.js';
 import type { ApiContext, ApiDependencies } from './context.js';
-import { installErrorHandling } from './http/problems.js';
+import { installErrorHandling, rateLimitError } from './http/problems.js';
 import { createMetricsRegistry } from './metrics.js';
 import { alertRoutes } from './routes/alerts.js';
 import { authRoutes } from './routes/auth.js';
@@ -110,15 +110,7 @@ export async function buildApp(deps: ApiDependencies): Promise<ApiApp> {
     await app.register(rateLimit, {
       max: limit.max,
       timeWindow: limit.timeWindowMs,
-      errorResponseBuilder: (_request, context) => {
-        const error = Object.assign(new Error(`rate limit of ${context.max} per ${context.after}`), {
-          statusCode: 429,
-          code: 'FST_RATE_LIMITED',
-          max: context.max,
-          after: context.after,
-        });
-        return error;
-      },
+      errorResponseBuilder: (request, context) => rateLimitError(request, context, limit.timeWindowMs),
     });
   }
   await app.register(cookie);
