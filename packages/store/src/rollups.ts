@@ -268,6 +268,10 @@ export interface StagedResult {
   readonly times: number[];
   readonly stored_values: number[];
   readonly stored_qualities: number[];
+  /** The inserted keys (parallel arrays), when asked for (insertStagedSql's `namesInserted`). */
+  readonly ins_tag_ids?: number[];
+  /** [ms since epoch] */
+  readonly ins_times?: number[];
 }
 
 /**
@@ -278,9 +282,11 @@ export interface StagedResult {
  * still guards a key stored meanwhile around the writer. The rows go in the order they were
  * staged (the writer stages them sorted by key), so no sort. float8send compares values bit
  * for bit (= holds -0 equal to 0). Buckets are cut by date_bin from 2000-01-01 UTC so the
- * session's TimeZone cannot shift an hour bucket.
+ * session's TimeZone cannot shift an hour bucket. With `namesInserted` it also returns the
+ * inserted keys, so the writer can name the rest (neither inserted nor conflicting) as
+ * duplicates: a re-sent batch inserts nothing, so for it that costs nothing.
  */
-export function insertStagedSql(rollups: boolean): string {
+export function insertStagedSql(rollups: boolean, namesInserted = false): string {
   const insert = `INSERT INTO samples (tag_id, time, value, quality)
       SELECT tag_id, time, value, quality FROM old WHERE stored_quality IS NULL
       ON CONFLICT DO NOTHING RETURNING tag_id, time, value`;
@@ -293,12 +299,17 @@ export function insertStagedSql(rollups: boolean): string {
     ? `, m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
     h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})`
     : '';
+  const inserted = namesInserted
+    ? `,
+           (SELECT coalesce(array_agg(tag_id), '{}') FROM ins) AS ins_tag_ids,
+           (SELECT coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') FROM ins) AS ins_times`
+    : '';
   return `WITH ${STAGED_WITH_STORED}, ins AS (${insert})${merges}
     SELECT (SELECT count(*)::int FROM ins) AS n,
            coalesce(array_agg(tag_id), '{}') AS tag_ids,
            coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') AS times,
            coalesce(array_agg(stored_value), '{}') AS stored_values,
-           coalesce(array_agg(stored_quality), '{}') AS stored_qualities
+           coalesce(array_agg(stored_quality), '{}') AS stored_qualities${inserted}
       FROM old WHERE stored_quality IS NOT NULL
        AND (float8send(value) <> float8send(stored_value) OR quality <> stored_quality)`;
 }

@@ -105,6 +105,8 @@ export interface MergeOutcome {
   /** Rows new to the database. */
   stored: number;
   duplicates: number;
+  /** The refs of the duplicate rows that carry one. */
+  duplicateRefs: number[];
   conflicts: BlockWriteConflict[];
 }
 
@@ -118,7 +120,7 @@ export async function mergeIntoBlocks(
   packed: readonly RefRow[],
   options: { rollups?: boolean } = {},
 ): Promise<MergeOutcome> {
-  const out: MergeOutcome = { stored: 0, duplicates: 0, conflicts: [] };
+  const out: MergeOutcome = { stored: 0, duplicates: 0, duplicateRefs: [], conflicts: [] };
   if (packed.length === 0) return out;
   const blocks = await blocksOver(client, packed, true);
   const groups = new Map<number, RefRow[]>();
@@ -142,6 +144,7 @@ export async function mergeIntoBlocks(
     const span = blocks[b]!;
     const m = mergeRowsIntoColumns(decodeBlock(span.payload!), rows);
     out.duplicates += m.duplicates;
+    for (const ref of m.duplicateRefs) out.duplicateRefs.push(ref);
     out.conflicts.push(...m.conflicts);
     if (m.stored.length === 0) continue;
     newRows.push(...m.stored);
