@@ -19,7 +19,8 @@ import { medianInPlace } from './stats.js';
 
 export interface PolynomialBaseline {
   readonly kind: 'polynomial';
-  readonly degree: 1 | 2 | 3;
+  /** fitBaseline fits 1 to 3; a stored row without its fitted model may hold more (services/jobs). */
+  readonly degree: number;
   /** Coefficients in the raw operating point, ascending powers: eta = sum c_k x^k [-]. */
   readonly coefficients: readonly number[];
   /** Coefficients in the scaled variable z = (x - xCenter) / xHalfRange, ascending powers. */

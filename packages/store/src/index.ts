@@ -21,6 +21,7 @@ export * from './plant-config.js';
 export * from './quality.js';
 export * from './results.js';
 export * from './retention.js';
+export * from './rollup-rebuild.js';
 export * from './rollups.js';
 export * from './samples-writer.js';
 export * from './transaction.js';

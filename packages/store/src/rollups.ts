@@ -7,12 +7,10 @@
  * NOTHING) are aggregated per bucket and merged into the stored buckets: min of mins, max
  * of maxes, sum of sums, count of counts, and the later of the two "last" points. Only new
  * rows are ever added, so a re-sent batch changes nothing, and no batch re-reads samples.
- * rebuildRollups recomputes a range from the raw samples, for repair.
+ * rebuildRollups (rollup-rebuild.ts) recomputes a range from the raw samples, for repair.
  */
-import type pg from 'pg';
 import { RollupEncoder, type RollupRow, type SampleRow } from './copy-binary.js';
-import { type Queryable, StoreError } from './errors.js';
-import { ensurePartitions } from './partitions.js';
+import type { Queryable } from './errors.js';
 import { sqlFloat, sqlTime } from './sql-literals.js';
 
 export const MINUTE_MS = 60_000;
@@ -212,7 +210,13 @@ function mergeClause(table: 'samples_1m' | 'samples_1h'): string {
     last_time = greatest(${table}.last_time, excluded.last_time)`;
 }
 
-const COLUMNS = 'tag_id, bucket, min, max, sum, count, last_value, last_time';
+/** The rollup tables' columns, in order. */
+export const ROLLUP_COLUMNS_SQL = 'tag_id, bucket, min, max, sum, count, last_value, last_time';
+const COLUMNS = ROLLUP_COLUMNS_SQL;
+
+/** Binary COPY of rollup rows (RollupEncoder, encodeBatchRollups) into rollup_stage. */
+export const COPY_ROLLUP_STAGE =
+  'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)';
 
 /**
  * Statements merging a few rollup rows (the fast path's first bucket of each tag) into
@@ -264,6 +268,10 @@ export interface StagedResult {
   readonly times: number[];
   readonly stored_values: number[];
   readonly stored_qualities: number[];
+  /** The inserted keys (parallel arrays), when asked for (insertStagedSql's `namesInserted`). */
+  readonly ins_tag_ids?: number[];
+  /** [ms since epoch] */
+  readonly ins_times?: number[];
 }
 
 /**
@@ -274,9 +282,11 @@ export interface StagedResult {
  * still guards a key stored meanwhile around the writer. The rows go in the order they were
  * staged (the writer stages them sorted by key), so no sort. float8send compares values bit
  * for bit (= holds -0 equal to 0). Buckets are cut by date_bin from 2000-01-01 UTC so the
- * session's TimeZone cannot shift an hour bucket.
+ * session's TimeZone cannot shift an hour bucket. With `namesInserted` it also returns the
+ * inserted keys, so the writer can name the rest (neither inserted nor conflicting) as
+ * duplicates: a re-sent batch inserts nothing, so for it that costs nothing.
  */
-export function insertStagedSql(rollups: boolean): string {
+export function insertStagedSql(rollups: boolean, namesInserted = false): string {
   const insert = `INSERT INTO samples (tag_id, time, value, quality)
       SELECT tag_id, time, value, quality FROM old WHERE stored_quality IS NULL
       ON CONFLICT DO NOTHING RETURNING tag_id, time, value`;
@@ -289,103 +299,20 @@ export function insertStagedSql(rollups: boolean): string {
     ? `, m AS (INSERT INTO samples_1m (${COLUMNS}) ${agg('1 minute')} ${mergeClause('samples_1m')}),
     h AS (INSERT INTO samples_1h (${COLUMNS}) ${agg('1 hour')} ${mergeClause('samples_1h')})`
     : '';
+  const inserted = namesInserted
+    ? `,
+           (SELECT coalesce(array_agg(tag_id), '{}') FROM ins) AS ins_tag_ids,
+           (SELECT coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') FROM ins) AS ins_times`
+    : '';
   return `WITH ${STAGED_WITH_STORED}, ins AS (${insert})${merges}
     SELECT (SELECT count(*)::int FROM ins) AS n,
            coalesce(array_agg(tag_id), '{}') AS tag_ids,
            coalesce(array_agg((extract(epoch FROM time) * 1000)::float8), '{}') AS times,
            coalesce(array_agg(stored_value), '{}') AS stored_values,
-           coalesce(array_agg(stored_quality), '{}') AS stored_qualities
+           coalesce(array_agg(stored_quality), '{}') AS stored_qualities${inserted}
       FROM old WHERE stored_quality IS NOT NULL
        AND (float8send(value) <> float8send(stored_value) OR quality <> stored_quality)`;
 }
 
-export interface RebuildRollupsOptions {
-  /** Tags to rebuild; default every tag with samples or rollups in the range. */
-  readonly tagIds?: readonly number[];
-  /** Range [from, to); widened to whole hours. */
-  readonly from: Date | number;
-  readonly to: Date | number;
-}
-
 /** Advisory-lock class for per-tag write locks, shared with the sample writer. */
 export const TAG_LOCK_CLASS = 0x15e7;
-
-/**
- * Recomputes samples_1m and samples_1h from raw samples over [from, to) widened to whole
- * hours, for the given tags (repair after rows were written around the writer, or after
- * raw retention is undone). Runs in one transaction under the writers' per-tag locks, so
- * no batch interleaves; buckets left with no samples are deleted. Returns the rows written.
- */
-export async function rebuildRollups(
-  pool: pg.Pool,
-  options: RebuildRollupsOptions,
-): Promise<{ tags: number; minuteRows: number; hourRows: number }> {
-  const ms = (t: Date | number): number => (typeof t === 'number' ? t : t.getTime());
-  const from0 = ms(options.from);
-  const to0 = ms(options.to);
-  if (!Number.isFinite(from0) || !Number.isFinite(to0) || !(to0 > from0)) {
-    throw new StoreError('STORE_TIME_RANGE', `bad rollup rebuild range: ${from0} to ${to0} [ms]`, {
-      from: from0,
-      to: to0,
-    });
-  }
-  const t0 = Math.floor(from0 / HOUR_MS) * HOUR_MS;
-  const t1 = Math.ceil(to0 / HOUR_MS) * HOUR_MS;
-  for (const id of options.tagIds ?? []) {
-    if (!Number.isInteger(id) || id <= 0 || id > 2 ** 31 - 1) {
-      throw new StoreError('STORE_BAD_REQUEST', `tag id ${id} is not a positive int4`, { tagId: id });
-    }
-  }
-  await ensurePartitions(pool, 'samples_1m', t0, t1 - 1);
-  await ensurePartitions(pool, 'samples_1h', t0, t1 - 1);
-  const from = new Date(t0).toISOString();
-  const to = new Date(t1).toISOString();
-  const client = await pool.connect();
-  try {
-    await client.query('BEGIN');
-    let tagIds = options.tagIds === undefined ? undefined : [...new Set(options.tagIds)];
-    if (tagIds === undefined) {
-      const found = await client.query<{ tag_id: number }>(
-        `SELECT DISTINCT tag_id FROM samples WHERE time >= $1 AND time < $2
-         UNION SELECT DISTINCT tag_id FROM samples_1h WHERE bucket >= $1 AND bucket < $2`,
-        [from, to],
-      );
-      tagIds = found.rows.map((r) => r.tag_id);
-    }
-    tagIds.sort((a, b) => a - b);
-    await client.query('SELECT pg_advisory_xact_lock($1, t) FROM unnest($2::int[]) AS t ORDER BY t', [
-      TAG_LOCK_CLASS,
-      tagIds,
-    ]);
-    const range = [tagIds, from, to];
-    await client.query(
-      'DELETE FROM samples_1m WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3',
-      range,
-    );
-    await client.query(
-      'DELETE FROM samples_1h WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3',
-      range,
-    );
-    const m = await client.query(
-      `INSERT INTO samples_1m (${COLUMNS})
-       SELECT tag_id, date_bin(interval '1 minute', time, timestamptz '2000-01-01 00:00+00'), min(value), max(value), sum(value),
-              count(*)::int, (array_agg(value ORDER BY time DESC))[1], max(time)
-         FROM samples WHERE tag_id = ANY($1) AND time >= $2 AND time < $3 GROUP BY 1, 2`,
-      range,
-    );
-    const h = await client.query(
-      `INSERT INTO samples_1h (${COLUMNS})
-       SELECT tag_id, date_bin(interval '1 hour', bucket, timestamptz '2000-01-01 00:00+00'), min(min), max(max), sum(sum),
-              sum(count)::int, (array_agg(last_value ORDER BY last_time DESC))[1], max(last_time)
-         FROM samples_1m WHERE tag_id = ANY($1) AND bucket >= $2 AND bucket < $3 GROUP BY 1, 2`,
-      range,
-    );
-    await client.query('COMMIT');
-    return { tags: tagIds.length, minuteRows: m.rowCount ?? 0, hourRows: h.rowCount ?? 0 };
-  } catch (error) {
-    await client.query('ROLLBACK').catch(() => {});
-    throw error;
-  } finally {
-    client.release();
-  }
-}

@@ -27,6 +27,7 @@ import { StoreError } from './errors.js';
 import { ensurePartitions, forgetPartitions } from './partitions.js';
 import { QUALITY_GOOD, qualityClass } from './quality.js';
 import {
+  COPY_ROLLUP_STAGE,
   encodeBatchRollups,
   insertStagedSql,
   MERGE_ROLLUP_STAGE,
@@ -40,8 +41,9 @@ import {
 import { sqlFloatArray, sqlIntArray, sqlTimeArray } from './sql-literals.js';
 import {
   type BatchOutcome,
+  carriesRefs,
   conflictOf,
-  findRow,
+  findRowIndex,
   type Repeat,
   resolveRepeats,
   sortUnique,
@@ -242,8 +244,6 @@ const SAMPLES_STAGE_DDL = `CREATE TEMP TABLE IF NOT EXISTS samples_stage
 // transaction, so a rolled-back batch cannot take them away behind this cache).
 const staged = new WeakSet<pg.PoolClient>();
 
-const STAGE_ROLLUPS =
-  'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)';
 const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_time)';
 
 /**
@@ -252,7 +252,8 @@ const ROLLUP_COLUMNS = '(tag_id, bucket, min, max, sum, count, last_value, last_
  * merges them into the rollups and returns the keys stored with another value. Runs inside
  * the batch's transaction, under its per-tag locks.
  * Rows that fall inside a packed block go to mergeIntoBlocks first (their outcome is added to
- * this one's); only the hot rows are staged.
+ * this one's); only the hot rows are staged. When the rows carry refs, the outcome names its
+ * duplicates (duplicateRefs).
  */
 async function writeStaged(
   client: pg.PoolClient,
@@ -260,38 +261,65 @@ async function writeStaged(
   data: Buffer,
   rollups: boolean,
 ): Promise<Omit<BatchOutcome, 'fast'>> {
+  const named = carriesRefs(rows);
   // Rows for ranges already packed are merged into their blocks (blocks/route.ts), the rest staged.
   const routed = await routePackedRows(client, rows);
   const merged = await mergeIntoBlocks(client, routed.packed, { rollups });
   const hot = routed.packed.length === 0 ? rows : routed.hot;
-  if (hot.length === 0) return merged;
+  const outcome: Omit<BatchOutcome, 'fast'> = {
+    stored: merged.stored,
+    duplicates: merged.duplicates,
+    conflicts: [...merged.conflicts],
+    ...(named ? { duplicateRefs: merged.duplicateRefs } : {}),
+  };
+  if (hot.length === 0) return outcome;
   await copyBuffer(
     client,
     'COPY samples_stage (tag_id, time, value, quality) FROM STDIN (FORMAT binary)',
     routed.packed.length === 0 ? data : encodeSamples(routed.hot),
   );
-  const r = (await client.query<StagedResult>(insertStagedSql(rollups))).rows[0]!;
-  const conflicts: WriteConflict[] = [...merged.conflicts];
-  for (let i = 0; i < r.tag_ids.length; i++) {
-    const row = findRow(hot, r.tag_ids[i]!, r.times[i]!);
-    if (row === undefined) {
-      // Cannot happen while times are whole milliseconds both ways; say so if it does.
-      const key = { tagId: r.tag_ids[i], time: r.times[i] };
-      throw new StoreError(
-        'STORE_WRITE_FAILED',
-        `staged key ${JSON.stringify(key)} is not in the batch`,
-        key,
-      );
-    }
-    conflicts.push(conflictOf(row, r.stored_values[i]!, r.stored_qualities[i]!));
-  }
+  const r = (await client.query<StagedResult>(insertStagedSql(rollups, named))).rows[0]!;
   // Rows neither inserted nor conflicting were stored with the same value: duplicates.
-  const hotConflicts = conflicts.length - merged.conflicts.length;
-  return {
-    stored: r.n + merged.stored,
-    duplicates: hot.length - r.n - hotConflicts + merged.duplicates,
-    conflicts,
+  const judged = judgeStaged(hot, r);
+  outcome.stored += r.n;
+  outcome.duplicates += hot.length - r.n - judged.conflicts.length;
+  for (const c of judged.conflicts) outcome.conflicts.push(c);
+  if (outcome.duplicateRefs !== undefined)
+    for (const ref of judged.duplicateRefs) outcome.duplicateRefs.push(ref);
+  return outcome;
+}
+
+/** The staged rows' conflicts, and (when the statement named the inserted keys) the refs of the duplicates. */
+function judgeStaged(
+  hot: readonly Row[],
+  r: StagedResult,
+): { conflicts: WriteConflict[]; duplicateRefs: number[] } {
+  const conflicts: WriteConflict[] = [];
+  // 1: conflicting, 2: inserted; 0 left: a duplicate.
+  const fate = r.ins_tag_ids === undefined ? undefined : new Uint8Array(hot.length);
+  const indexOf = (tagId: number, time: number): number => {
+    const k = findRowIndex(hot, tagId, time);
+    if (k >= 0) return k;
+    // Cannot happen while times are whole milliseconds both ways; say so if it does.
+    const key = { tagId, time };
+    throw new StoreError('STORE_WRITE_FAILED', `staged key ${JSON.stringify(key)} is not in the batch`, key);
   };
+  for (let i = 0; i < r.tag_ids.length; i++) {
+    const k = indexOf(r.tag_ids[i]!, r.times[i]!);
+    if (fate !== undefined) fate[k] = 1;
+    conflicts.push(conflictOf(hot[k]!, r.stored_values[i]!, r.stored_qualities[i]!));
+  }
+  const duplicateRefs: number[] = [];
+  if (fate === undefined) return { conflicts, duplicateRefs };
+  const insTimes = r.ins_times!;
+  r.ins_tag_ids!.forEach((tagId, i) => {
+    fate[indexOf(tagId, insTimes[i]!)] = 2;
+  });
+  for (let k = 0; k < hot.length; k++) {
+    const ref = hot[k]!.ref;
+    if (fate[k] === 0 && ref !== undefined) duplicateRefs.push(ref);
+  }
+  return { conflicts, duplicateRefs };
 }
 
 const COPY_SAMPLES = 'COPY samples (tag_id, time, value, quality) FROM STDIN (FORMAT binary)';
@@ -333,7 +361,7 @@ async function copyFast(
     if (pgCode(error) !== '23505') throw error;
     await client.query('ROLLBACK TO SAVEPOINT fast');
     stored = await copyBuffer(client, COPY_SAMPLES, batch.data);
-    await copyBuffer(client, STAGE_ROLLUPS, encodeBatchRollups(batch.sorted));
+    await copyBuffer(client, COPY_ROLLUP_STAGE, encodeBatchRollups(batch.sorted));
     await client.query(MERGE_ROLLUP_STAGE);
     lap('rollups');
     return { stored, merge: '' };
@@ -449,10 +477,12 @@ async function writePrepared(
 function withRepeats(outcome: BatchOutcome, batch: PreparedBatch): BatchOutcome {
   if (batch.repeats.length === 0) return outcome;
   const r = resolveRepeats(batch.repeats, outcome.conflicts);
+  const named = outcome.duplicateRefs !== undefined || r.duplicateRefs.length > 0;
   return {
     ...outcome,
     duplicates: outcome.duplicates + r.duplicates,
     conflicts: outcome.conflicts.concat(r.conflicts),
+    ...(named ? { duplicateRefs: (outcome.duplicateRefs ?? []).concat(r.duplicateRefs) } : {}),
   };
 }
 

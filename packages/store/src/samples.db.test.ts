@@ -3,7 +3,7 @@ import { createTestDatabase, type TestDatabase } from '../../../test/support/dat
 import { ensureCurrentPartitions, listPartitions } from './partitions.js';
 import { QUALITY_GOOD } from './quality.js';
 import { applyRetention } from './retention.js';
-import { rebuildRollups } from './rollups.js';
+import { rebuildRollups } from './rollup-rebuild.js';
 import { type SampleInput, SampleWriter, writeSampleBatch } from './samples-writer.js';
 import { readTrend } from './trends.js';
 

@@ -44,6 +44,8 @@ async function snapshot(tagIds: readonly number[]): Promise<unknown> {
 }
 
 const byRef = (a: WriteConflict, b: WriteConflict): number => (a.ref ?? 0) - (b.ref ?? 0);
+const sortedRefs = (refs: readonly number[] | undefined): number[] | undefined =>
+  refs === undefined ? undefined : [...refs].sort((a, b) => a - b);
 
 describe('write outcomes (first stored value kept)', () => {
   it('a re-sent batch is all duplicates and changes nothing', async () => {
@@ -55,8 +57,22 @@ describe('write outcomes (first stored value kept)', () => {
       fast: true,
     });
     const before = await snapshot([1, 2]);
-    // Same rows again, in another order.
-    expect(await writeSampleBatch(db.pool, [...rows].reverse())).toEqual({
+    // Same rows again, in another order: each named a duplicate by its ref.
+    const again = await writeSampleBatch(db.pool, [...rows].reverse());
+    expect({ ...again, duplicateRefs: sortedRefs(again.duplicateRefs) }).toEqual({
+      stored: 0,
+      duplicates: 600,
+      duplicateRefs: rows.map((r) => r.ref),
+      conflicts: [],
+      fast: false,
+    });
+    // Without refs the outcome names none (and the counts stay).
+    expect(
+      await writeSampleBatch(
+        db.pool,
+        rows.map(({ ref: _, ...r }) => r),
+      ),
+    ).toEqual({
       stored: 0,
       duplicates: 600,
       conflicts: [],
@@ -110,6 +126,10 @@ describe('write outcomes (first stored value kept)', () => {
     );
     const out = await writeSampleBatch(db.pool, next);
     expect(out).toMatchObject({ stored: 120, duplicates: 50, fast: false });
+    // The 50 unchanged re-sent seconds, by ref (refs 0..59 were stored before, every 6th corrected).
+    expect(sortedRefs(out.duplicateRefs)).toEqual(
+      Array.from({ length: 60 }, (_, i) => i).filter((i) => i % 6 !== 0),
+    );
     expect(out.conflicts.map((c) => c.ref).sort((a, b) => (a ?? 0) - (b ?? 0))).toEqual([
       0, 6, 12, 18, 24, 30, 36, 42, 48, 54,
     ]);
@@ -134,6 +154,7 @@ describe('write outcomes (first stored value kept)', () => {
     expect(out).toEqual({
       stored: 10,
       duplicates: 2,
+      duplicateRefs: [100, 102],
       conflicts: [
         {
           tagId: 6,
@@ -165,6 +186,7 @@ describe('write outcomes (first stored value kept)', () => {
     ]);
     expect(out.stored).toBe(0);
     expect(out.duplicates).toBe(1);
+    expect(out.duplicateRefs).toEqual([3]);
     expect([...out.conflicts].sort(byRef).map((c) => [c.ref, c.value, c.storedValue])).toEqual([
       [1, 7, key.value],
       [2, 7, key.value],

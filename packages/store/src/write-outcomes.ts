@@ -26,6 +26,13 @@ export interface BatchOutcome {
   stored: number;
   duplicates: number;
   conflicts: WriteConflict[];
+  /**
+   * The refs of the rows counted in `duplicates` (those that carry one), in no set order. Set
+   * on the staging path and for a batch's repeated keys when the batch's rows carry refs; absent
+   * otherwise (then a caller can name the duplicates only when `duplicates` is 0). The fast path
+   * has no duplicates and sets it only for repeats, so it costs that path nothing.
+   */
+  duplicateRefs?: number[];
   /** Whether the batch went straight into samples (no staging). */
   fast: boolean;
 }
@@ -93,18 +100,24 @@ export function isSortedUnique(rows: readonly SampleRow[]): boolean {
   return true;
 }
 
-/** The row of `sorted` (by tag, time, unique) with this key, by binary search. */
-export function findRow(sorted: readonly SampleRow[], tagId: number, time: number): SampleRow | undefined {
+/** The index of the row of `sorted` (by tag, time, unique) with this key, by binary search; -1 if none. */
+export function findRowIndex(sorted: readonly SampleRow[], tagId: number, time: number): number {
   let lo = 0;
   let hi = sorted.length - 1;
   while (lo <= hi) {
     const mid = (lo + hi) >>> 1;
     const r = sorted[mid]!;
-    if (r.tagId === tagId && r.time === time) return r;
+    if (r.tagId === tagId && r.time === time) return mid;
     if (r.tagId < tagId || (r.tagId === tagId && r.time < time)) lo = mid + 1;
     else hi = mid - 1;
   }
-  return undefined;
+  return -1;
+}
+
+/** Whether any row carries the caller's ref (then the outcome names its duplicates). */
+export function carriesRefs(rows: readonly SampleRow[]): boolean {
+  for (const r of rows) if (r.ref !== undefined) return true;
+  return false;
 }
 
 /**
@@ -114,9 +127,10 @@ export function findRow(sorted: readonly SampleRow[], tagId: number, time: numbe
 export function resolveRepeats(
   repeats: readonly Repeat[],
   candidateConflicts: readonly WriteConflict[],
-): { duplicates: number; conflicts: WriteConflict[] } {
+): { duplicates: number; duplicateRefs: number[]; conflicts: WriteConflict[] } {
   const conflicts: WriteConflict[] = [];
-  if (repeats.length === 0) return { duplicates: 0, conflicts };
+  const duplicateRefs: number[] = [];
+  if (repeats.length === 0) return { duplicates: 0, duplicateRefs, conflicts };
   const refused = new Map<string, WriteConflict>();
   for (const c of candidateConflicts) refused.set(`${c.tagId}:${c.time}`, c);
   let duplicates = 0;
@@ -124,8 +138,10 @@ export function resolveRepeats(
     const stored = refused.get(`${first.tagId}:${first.time}`);
     const keptValue = stored?.storedValue ?? first.value;
     const keptQuality = stored?.storedQuality ?? first.quality;
-    if (sameSample(row.value, row.quality, keptValue, keptQuality)) duplicates++;
-    else conflicts.push(conflictOf(row, keptValue, keptQuality));
+    if (sameSample(row.value, row.quality, keptValue, keptQuality)) {
+      duplicates++;
+      if (row.ref !== undefined) duplicateRefs.push(row.ref);
+    } else conflicts.push(conflictOf(row, keptValue, keptQuality));
   }
-  return { duplicates, conflicts };
+  return { duplicates, duplicateRefs, conflicts };
 }

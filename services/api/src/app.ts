@@ -25,7 +25,7 @@ import { ensureInitialAdmin } from './auth/credentials.js';
 import { authPlugin } from './auth/plugin.js';
 import { answerUndecodableUrl, installRequestScreen } from './auth/request-screen.js';
 import type { ApiContext, ApiDependencies } from './context.js';
-import { installErrorHandling } from './http/problems.js';
+import { installErrorHandling, rateLimitError } from './http/problems.js';
 import { createMetricsRegistry } from './metrics.js';
 import { alertRoutes } from './routes/alerts.js';
 import { authRoutes } from './routes/auth.js';
@@ -109,13 +109,7 @@ async function registerProtection(app: ApiApp, deps: ApiDependencies): Promise<v
     await app.register(rateLimit, {
       max: limit.max,
       timeWindow: limit.timeWindowMs,
-      errorResponseBuilder: (_request, context) =>
-        Object.assign(new Error(`rate limit of ${context.max} per ${context.after}`), {
-          statusCode: 429,
-          code: 'FST_RATE_LIMITED',
-          max: context.max,
-          after: context.after,
-        }),
+      errorResponseBuilder: (request, context) => rateLimitError(request, context, limit.timeWindowMs),
     });
   }
   await app.register(cookie);

@@ -42,15 +42,23 @@ export class CommittedSink implements CommittedSampleSink {
     let stored = 0;
     let duplicates = 0;
     const conflicts: SampleConflict[] = [];
+    // The duplicates are named when every chunk that has any names them (a chunk without
+    // duplicates, such as one on the store's fast path, names none and needs no list).
+    let duplicateRefs: number[] | undefined = [];
     for (const group of groupsBySpan(samples)) {
       for (let i = 0; i < group.length; i += this.chunk) {
         const outcome = await writeSampleBatch(this.pool, group.slice(i, i + this.chunk).map(toRow));
         stored += outcome.stored;
         duplicates += outcome.duplicates;
-        conflicts.push(...outcome.conflicts);
+        for (const c of outcome.conflicts) conflicts.push(c);
+        if (outcome.duplicateRefs !== undefined)
+          for (const ref of outcome.duplicateRefs) duplicateRefs?.push(ref);
+        else if (outcome.duplicates > 0) duplicateRefs = undefined;
       }
     }
-    return { stored, duplicates, conflicts };
+    return duplicateRefs === undefined
+      ? { stored, duplicates, conflicts }
+      : { stored, duplicates, conflicts, duplicateRefs };
   }
 
   async flush(): Promise<void> {}

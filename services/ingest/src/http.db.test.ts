@@ -112,12 +112,53 @@ describe('push into the store: what became of each item', () => {
       { tag: 'ST1.FI-100', time: t, value: 120 },
       { tag: 'ST1.FI-100', time: '2026-02-02T00:00:01Z', value: 122 },
     ]);
-    // The store counts both kinds without naming its duplicates (INTERFACES.md A): each item says so.
+    // The store names its duplicates (duplicateRefs), so each item says which it was.
     expect(res.json()).toMatchObject({
       accepted: 1,
       stored: 1,
       duplicates: 1,
-      items: ['stored-or-duplicate', 'stored-or-duplicate'],
+      items: ['duplicate', 'stored'],
+    });
+  });
+
+  it('answers every item of a mixed batch exactly: new, already stored, conflicting, repeated in the batch', async () => {
+    const at = (s: number) => `2026-02-03T00:00:0${s}Z`;
+    await push([
+      { tag: 'ST1.PI-100', time: at(0), value: 10 },
+      { tag: 'ST1.PI-100', time: at(1), value: 11 },
+      { tag: 'ST1.TI-100', time: at(2), value: 300 },
+    ]);
+    const res = await push([
+      { tag: 'ST1.PI-100', time: at(5), value: 15 }, // new
+      { tag: 'ST1.PI-100', time: at(0), value: 10 }, // stored before
+      { tag: 'ST1.TI-100', time: at(3), value: 301 }, // new (another tag)
+      { tag: 'ST1.PI-100', time: at(1), value: 12 }, // conflict: 11 is kept
+      { tag: 'ST1.PI-100', time: at(5), value: 15 }, // repeat of item 0 in this batch
+      { tag: 'ST1.TI-100', time: at(2), value: 300, quality: 192 }, // stored before
+      { tag: 'ST1.PI-100', time: at(4), value: 14 }, // new, earlier than stored times: staging path
+      { tag: 'ST1.TI-100', time: at(3), value: 302 }, // repeat of item 2 with another value: conflict
+    ]);
+    expect(res.statusCode).toBe(200);
+    expect(res.json()).toMatchObject({
+      accepted: 3,
+      stored: 3,
+      duplicates: 3,
+      items: ['stored', 'duplicate', 'stored', 'conflict', 'duplicate', 'duplicate', 'stored', 'conflict'],
+      conflicts: [
+        { index: 3, value: 12, storedValue: 11 },
+        { index: 7, value: 302, storedValue: 301 },
+      ],
+    });
+    // Sent again: every item stored before, each named so.
+    const again = await push([
+      { tag: 'ST1.PI-100', time: at(5), value: 15 },
+      { tag: 'ST1.PI-100', time: at(4), value: 14 },
+      { tag: 'ST1.TI-100', time: at(3), value: 301 },
+    ]);
+    expect(again.json()).toMatchObject({
+      stored: 0,
+      duplicates: 3,
+      items: ['duplicate', 'duplicate', 'duplicate'],
     });
   });
 });

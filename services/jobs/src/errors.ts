@@ -25,6 +25,10 @@ export const JOBS_ERRORS = {
     meaning: 'The monthly report builder is not wired in; no report was made.',
     retired: true,
   },
+  JOBS_BAD_BASELINE: {
+    meaning:
+      'A stored baseline row without its fitted model cannot be evaluated: it has no coefficients or a non-finite one (the baseline, its degree and the coefficient are given).',
+  },
   JOBS_BAD_SAMPLES: {
     meaning: 'The database sent sample rows in a form the reader does not expect (the offset is given).',
     retired: true,

@@ -185,6 +185,30 @@ describe('sample blocks', () => {
     expect(h.rows[0]?.n).toBe(after.times.length);
   });
 
+  it('names the duplicates of packed and hot rows and of repeats in the batch by their refs', async () => {
+    const all = (await readSeries(db.pool, [11], Number.NEGATIVE_INFINITY, Number.POSITIVE_INFINITY)).get(
+      11,
+    )!;
+    const sample = (k: number, ref: number): SampleRow => ({
+      tagId: 11,
+      time: all.times[k] as number,
+      value: all.values[k] as number,
+      quality: all.qualities[k] as number,
+      ref,
+    });
+    const last = all.times.length - 1; // hot: after the pack cutoff
+    const out = await writeSampleBatch(db.pool, [
+      sample(50, 10), // packed, stored before: duplicate
+      { ...sample(51, 11), value: -3 }, // packed, another value: conflict
+      { ...sample(52, 12), time: (all.times[52] as number) + 1 }, // packed range, new
+      sample(50, 13), // repeat of ref 10 in the batch: duplicate
+      sample(last, 14), // hot, stored before: duplicate
+    ]);
+    expect(out).toMatchObject({ stored: 1, duplicates: 3, fast: false });
+    expect(out.conflicts.map((c) => c.ref)).toEqual([11]);
+    expect([...(out.duplicateRefs ?? [])].sort((a, b) => a - b)).toEqual([10, 13, 14]);
+  });
+
   it('drops blocks older than N days per tag and per site, and leaves the others', async () => {
     const site = await db.pool.query<{ id: number }>(
       `INSERT INTO sites (slug, name, time_zone, spec) VALUES ('r', 'Retention works (invented)', 'UTC', '{}') RETURNING id`,

@@ -28,6 +28,8 @@ export interface BlockMerge {
   /** Incoming rows that were new, in time order. */
   readonly stored: RefRow[];
   readonly duplicates: number;
+  /** The refs of the duplicate rows that carry one. */
+  readonly duplicateRefs: number[];
   readonly conflicts: BlockWriteConflict[];
 }
 
@@ -70,6 +72,10 @@ export function mergeRowsIntoColumns(block: UsColumns, rows: readonly RefRow[]):
   const qualities: number[] = [];
   const stored: RefRow[] = [];
   const conflicts: BlockWriteConflict[] = [];
+  const duplicateRefs: number[] = [];
+  const duplicate = (r: RefRow): void => {
+    if (r.ref !== undefined) duplicateRefs.push(r.ref);
+  };
   let duplicates = 0;
   let i = 0;
   for (let j = 0; j < rows.length; j++) {
@@ -83,8 +89,10 @@ export function mergeRowsIntoColumns(block: UsColumns, rows: readonly RefRow[]):
     }
     const last = times.length - 1;
     if (i < n && block.times[i] === us) {
-      if (judge(r, block.values[i] as number, block.qualities[i] as number, conflicts) === 'duplicate')
+      if (judge(r, block.values[i] as number, block.qualities[i] as number, conflicts) === 'duplicate') {
         duplicates++;
+        duplicate(r);
+      }
     } else if (
       last >= 0 &&
       times[last] === us &&
@@ -92,7 +100,10 @@ export function mergeRowsIntoColumns(block: UsColumns, rows: readonly RefRow[]):
       stored[stored.length - 1]!.time === r.time
     ) {
       // A repeat inside the incoming rows of a key this merge just stored.
-      if (judge(r, values[last]!, qualities[last]!, conflicts) === 'duplicate') duplicates++;
+      if (judge(r, values[last]!, qualities[last]!, conflicts) === 'duplicate') {
+        duplicates++;
+        duplicate(r);
+      }
     } else {
       times.push(us);
       values.push(r.value);
@@ -113,6 +124,7 @@ export function mergeRowsIntoColumns(block: UsColumns, rows: readonly RefRow[]):
     },
     stored,
     duplicates,
+    duplicateRefs,
     conflicts,
   };
 }

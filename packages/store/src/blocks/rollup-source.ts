@@ -1,7 +1,7 @@
 /**
  * Rollup rows recomputed from raw samples wherever they live (hot rows and blocks), for
- * rebuildRollups (rollups.ts), whose SQL reads `samples` only and would lose the packed
- * history of a range it rebuilds.
+ * rebuildRollups (rollup-rebuild.ts): SQL over `samples` alone would lose the packed history
+ * of a range it rebuilds.
  */
 import type { SampleRow } from '../copy-binary.js';
 import { encodeBatchRollups } from '../rollups.js';

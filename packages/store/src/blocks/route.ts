@@ -11,7 +11,7 @@ import { decodeBlock } from '@isentrope/codec';
 import type pg from 'pg';
 import type { SampleRow } from '../copy-binary.js';
 import { StoreError } from '../errors.js';
-import { encodeBatchRollups, MERGE_ROLLUP_STAGE, ROLLUP_STAGE_DDL } from '../rollups.js';
+import { COPY_ROLLUP_STAGE, encodeBatchRollups, MERGE_ROLLUP_STAGE, ROLLUP_STAGE_DDL } from '../rollups.js';
 import { type BlockRow, blockRow } from './block-rows.js';
 import { copyIn } from './copy-in.js';
 import { type BlockWriteConflict, mergeRowsIntoColumns, type RefRow } from './merge.js';
@@ -105,6 +105,8 @@ export interface MergeOutcome {
   /** Rows new to the database. */
   stored: number;
   duplicates: number;
+  /** The refs of the duplicate rows that carry one. */
+  duplicateRefs: number[];
   conflicts: BlockWriteConflict[];
 }
 
@@ -118,7 +120,7 @@ export async function mergeIntoBlocks(
   packed: readonly RefRow[],
   options: { rollups?: boolean } = {},
 ): Promise<MergeOutcome> {
-  const out: MergeOutcome = { stored: 0, duplicates: 0, conflicts: [] };
+  const out: MergeOutcome = { stored: 0, duplicates: 0, duplicateRefs: [], conflicts: [] };
   if (packed.length === 0) return out;
   const blocks = await blocksOver(client, packed, true);
   const groups = new Map<number, RefRow[]>();
@@ -142,6 +144,7 @@ export async function mergeIntoBlocks(
     const span = blocks[b]!;
     const m = mergeRowsIntoColumns(decodeBlock(span.payload!), rows);
     out.duplicates += m.duplicates;
+    for (const ref of m.duplicateRefs) out.duplicateRefs.push(ref);
     out.conflicts.push(...m.conflicts);
     if (m.stored.length === 0) continue;
     newRows.push(...m.stored);
@@ -174,11 +177,7 @@ export async function mergeIntoBlocks(
 async function mergeRollups(client: pg.ClientBase, rows: RefRow[]): Promise<void> {
   rows.sort((a, b) => a.tagId - b.tagId || a.time - b.time);
   await client.query(ROLLUP_STAGE_DDL);
-  await copyIn(
-    client,
-    'COPY rollup_stage (tag_id, bucket, min, max, sum, count, last_value, last_time, hourly) FROM STDIN (FORMAT binary)',
-    encodeBatchRollups(rows),
-  );
+  await copyIn(client, COPY_ROLLUP_STAGE, encodeBatchRollups(rows));
   await client.query(MERGE_ROLLUP_STAGE);
   await client.query('TRUNCATE rollup_stage');
 }

@@ -4,6 +4,8 @@
  * stable code, passed on in `reason`; nothing is parsed from a message.
  */
 
+// The route's config.rateLimit is typed by @fastify/rate-limit's declarations.
+import type {} from '@fastify/rate-limit';
 import { MONITOR_ERRORS } from '@isentrope/monitor';
 import { THERMO_ERRORS } from '@isentrope/thermo';
 import type { FastifyError, FastifyInstance, FastifyReply, FastifyRequest } from 'fastify';
@@ -17,6 +19,48 @@ export function sendProblem(reply: FastifyReply, request: FastifyRequest, error:
     .code(error.status)
     .type(PROBLEM_TYPE)
     .send(JSON.stringify(toProblem(error, request.url)));
+}
+
+/** The error @fastify/rate-limit throws for a request past the limit (see rateLimitError). */
+interface RateLimited {
+  readonly code: 'FST_RATE_LIMITED';
+  readonly message: string;
+  readonly statusCode: 429;
+  readonly max: number;
+  /** The limit's window [ms]. */
+  readonly windowMs: number;
+  /** Whole seconds to the end of the client's window, at least 1: Retry-After (RFC 9110 section 10.2.3). */
+  readonly retryAfterSeconds: number;
+}
+
+/**
+ * errorResponseBuilder of the app-wide @fastify/rate-limit: the seconds come from the plugin's
+ * own ttl (the time left in the client's window [ms]), rounded up as the plugin rounds its own
+ * Retry-After header; the window is the route's own (config.rateLimit) or the app's.
+ */
+export function rateLimitError(
+  request: FastifyRequest,
+  context: { readonly max: number; readonly ttl: number },
+  appWindowMs: number,
+): Error & RateLimited {
+  const route = request.routeOptions.config.rateLimit;
+  const windowMs =
+    typeof route === 'object' && typeof route.timeWindow === 'number' ? route.timeWindow : appWindowMs;
+  const retryAfterSeconds = Math.max(1, Math.ceil(context.ttl / 1000));
+  return Object.assign(new Error(`rate limit of ${context.max} per ${windowMs / 1000} s`), {
+    code: 'FST_RATE_LIMITED' as const,
+    statusCode: 429 as const,
+    max: context.max,
+    windowMs,
+    retryAfterSeconds,
+  });
+}
+
+function isRateLimited(error: unknown): error is RateLimited {
+  return (
+    (error as { code?: unknown }).code === 'FST_RATE_LIMITED' &&
+    typeof (error as { retryAfterSeconds?: unknown }).retryAfterSeconds === 'number'
+  );
 }
 
 function hasCode(error: unknown): error is { code: string; message: string } {
@@ -43,8 +87,14 @@ export function asApiError(error: unknown, requestId: string): ApiError {
       errors,
     );
   }
+  if (isRateLimited(error))
+    return new ApiError('API_RATE_LIMITED', {
+      max: error.max,
+      window: `${error.windowMs / 1000} s`,
+      after: `${error.retryAfterSeconds} s`,
+    });
   if (hasCode(error)) {
-    const fe = error as FastifyError & { max?: number; after?: string };
+    const fe = error as FastifyError;
     switch (fe.code) {
       case 'FST_ERR_CTP_BODY_TOO_LARGE':
         return new ApiError('API_PAYLOAD_TOO_LARGE', { limit: 'the configured' });
@@ -53,8 +103,6 @@ export function asApiError(error: unknown, requestId: string): ApiError {
       case 'FST_ERR_CTP_EMPTY_JSON_BODY':
       case 'FST_ERR_CTP_INVALID_JSON_BODY':
         return new ApiError('API_VALIDATION', { summary: fe.message });
-      case 'FST_RATE_LIMITED':
-        return new ApiError('API_RATE_LIMITED', { max: fe.max, window: 'window', after: fe.after });
       case 'ECONNREFUSED':
       case '57P01':
       case '08006':
@@ -77,10 +125,9 @@ export function installErrorHandling(app: FastifyInstance): void {
         : asApiError(error, request.id);
     if (apiError.code === 'API_INTERNAL') request.log.error({ err: error }, 'unhandled error');
     else if (apiError.status >= 500) request.log.warn({ err: error }, apiError.message);
-    if (apiError.code === 'API_RATE_LIMITED') {
-      const after = (error as { after?: string }).after;
-      if (after !== undefined) reply.header('retry-after', after.replace(/\D.*$/, ''));
-    }
+    // The plugin set Retry-After already (the same seconds); said again so the header and the
+    // detail cannot part.
+    if (isRateLimited(error)) reply.header('retry-after', String(error.retryAfterSeconds));
     return sendProblem(reply, request, apiError);
   });
   app.setNotFoundHandler((request, reply) =>

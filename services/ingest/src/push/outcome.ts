@@ -9,7 +9,9 @@ import type { PushRejection } from './items.js';
 
 /**
  * 'stored-or-duplicate': the store holds the item's value for its key, stored now or before; the
- * store counted both kinds in this batch without naming which rows were the duplicates.
+ * sink counted both kinds in this batch without naming which rows were the duplicates. The
+ * store's sink (CommittedSink) names them (duplicateRefs) for every item, so the push answers
+ * stored or duplicate exactly; this status is left for a sink that cannot.
  */
 export type PushItemStatus = 'stored' | 'duplicate' | 'stored-or-duplicate' | 'conflict' | 'rejected';
 

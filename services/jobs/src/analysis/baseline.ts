@@ -22,6 +22,7 @@ import {
   readActiveBaselineRow,
   USABLE_RESULT_SQL,
 } from '@isentrope/store';
+import { JobsError } from '../errors.js';
 
 export interface StoredBaseline {
   readonly id: number;
@@ -35,18 +36,29 @@ export interface StoredBaseline {
 
 /**
  * A baseline row written without the fitted model (coefficients only): the polynomial itself,
- * with no covariance (its uncertainty is then unknown and taken as 0; the row says so by having
- * no model).
+ * every coefficient of it (evaluateBaseline sums them all), with no covariance (its uncertainty
+ * is then unknown and taken as 0; the row says so by having no model). A constant row is the
+ * line c0 + 0 x. A row with no coefficient or a non-finite one is refused (JOBS_BAD_BASELINE),
+ * never evaluated to NaN.
  */
-function modelFromCoefficients(r: BaselineRow): PolynomialBaseline {
-  const c = r.coefficients.length >= 2 ? r.coefficients : [r.coefficients[0] ?? Number.NaN, 0];
-  const degree = Math.min(3, c.length - 1) as 1 | 2 | 3;
-  const p = degree + 1;
+export function modelFromCoefficients(r: BaselineRow): PolynomialBaseline {
+  const degree = r.coefficients.length - 1;
+  const bad = r.coefficients.findIndex((c) => !Number.isFinite(c));
+  if (degree < 0 || bad >= 0)
+    throw new JobsError(
+      'JOBS_BAD_BASELINE',
+      degree < 0
+        ? `baseline ${r.id} (machine ${r.machine_id}) has no coefficients and no fitted model; fit the baseline again`
+        : `baseline ${r.id} (machine ${r.machine_id}, degree ${degree}): coefficient ${bad} (of x^${bad}) is ${r.coefficients[bad]}, not a finite number; fit the baseline again`,
+      bad >= 0 ? { baselineId: r.id, degree, index: bad } : { baselineId: r.id, degree },
+    );
+  const c = degree === 0 ? [r.coefficients[0]!, 0] : [...r.coefficients];
+  const p = c.length;
   return {
     kind: 'polynomial',
-    degree,
-    coefficients: c.slice(0, p),
-    scaledCoefficients: c.slice(0, p),
+    degree: p - 1,
+    coefficients: c,
+    scaledCoefficients: c,
     xCenter: 0,
     xHalfRange: 1,
     covariance: new Array<number>(p * p).fill(0),
