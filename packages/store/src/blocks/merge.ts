@@ -1,24 +1,16 @@
 /**
  * Merging late samples into a decoded block (pure). The rule for a key already stored
- * (docs/INTERFACES section A, as the hot table applies it): the first stored value is kept;
+ * (as the hot table applies it, write-outcomes.ts): the first stored value is kept;
  * a re-sent sample with the same value bit for bit and the same quality is a duplicate, one
  * with another value or quality a conflict, and neither is stored. Several incoming rows for
  * one key: the first is the candidate, the others its duplicates or conflicts.
  */
 import type { SampleRow } from '../copy-binary.js';
+import type { WriteConflict } from '../write-outcomes.js';
 import type { UsColumns } from './columns.js';
 
-/** A refused sample and the one kept (the shape of the writer's WriteConflict). */
-export interface BlockWriteConflict {
-  readonly tagId: number;
-  /** [ms since epoch] */
-  readonly time: number;
-  readonly value: number;
-  readonly quality: number;
-  readonly storedValue: number;
-  readonly storedQuality: number;
-  readonly ref?: number;
-}
+/** A refused sample and the one kept: the writer's WriteConflict, declared once. */
+export type BlockWriteConflict = WriteConflict;
 
 /** A sample row with the caller's optional reference (CSV line, push item index). */
 export type RefRow = SampleRow & { readonly ref?: number };
