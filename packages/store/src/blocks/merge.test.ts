@@ -10,7 +10,7 @@ const block: UsColumns = {
   qualities: Int16Array.from([192, 192, 64]),
 };
 
-describe('mergeRowsIntoColumns (first stored value kept, docs/INTERFACES section A)', () => {
+describe('mergeRowsIntoColumns (first stored value kept, as write-outcomes.ts states it)', () => {
   it('inserts new keys in time order and counts duplicates and conflicts', () => {
     const m = mergeRowsIntoColumns(block, [
       { tagId: 1, time: 500, value: 9, quality: 192 }, // new, before the first

@@ -24,7 +24,7 @@ const at = (ref: number, value: number, quality = 192, time = t): Sample => ({
   ref,
 });
 
-// Outcomes worked by hand from the rule "first stored value kept" (INTERFACES.md A; common practice, no source).
+// Outcomes worked by hand from the rule "first stored value kept" (the store's rule, packages/store/src/write-outcomes.ts; common practice, no source).
 describe('storePushItems', () => {
   it('judges repeats of a refused first item against the value the store kept', async () => {
     const sink = answering({
