@@ -145,7 +145,10 @@ describe('startIngest', () => {
         join(folder, 'long.csv'),
         'tag;time;value\nST1.TI-100;2026-02-03 10:00:00;510,5\nST1.TI-100;2026-02-03 10:01:00;511\n',
       );
-      for (let i = 0; i < 100 && (await count()) < before + 2; i++)
+      // The file counts as processed just after its rows commit: wait (bounded) for both.
+      const processed = (): number =>
+        service.metrics().find((s) => s.source === 'drop-b')?.filesProcessed ?? 0;
+      for (let i = 0; i < 100 && ((await count()) < before + 2 || processed() < 1); i++)
         await new Promise((r) => setTimeout(r, 100));
       const r = await db.pool.query<{ time: Date }>(
         `SELECT s.time FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.TI-100' ORDER BY s.time`,
