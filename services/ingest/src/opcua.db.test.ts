@@ -9,7 +9,7 @@ import { createTestDatabase, type TestDatabase } from '../../../test/support/dat
 import { DiskBuffer } from './buffer.js';
 import { CommittedSink, Forwarder, guardPool } from './forward.js';
 import { SourceMetrics } from './metrics.js';
-import { OpcuaSource, qualityFromStatus } from './opcua.js';
+import { loadNodeOpcua, OpcuaSource, qualityFromStatus } from './opcua.js';
 import { type PlantServer, type Published, startPlantServer } from './testing/opcua-plant.js';
 import { seedTags } from './testing/seed.js';
 
@@ -177,6 +177,48 @@ describe('OPC UA ingest', () => {
     expect(qualityFromStatus(0x808b0000)).toBe(0); // BadSensorFailure: severity bits 10
     expect(qualityFromStatus(0xc0000000)).toBe(0); // reserved severity 11 taken as bad
   });
+});
+
+describe('OPC UA ingest against a server whose sessions are all taken', () => {
+  it('subscribes once a session is free again (a refused session does not leave the client stuck)', async () => {
+    // One session at most, held by another client: like a restarted process whose killed
+    // predecessor's session the server still keeps until its timeout.
+    const busy = await startPlantServer({ names: NAMES, pkiDir: PKI, maxSessions: 1 });
+    const { OPCUAClient } = await loadNodeOpcua();
+    const holder = OPCUAClient.create({ endpointMustExist: false, connectionStrategy: { maxRetry: 0 } });
+    const metrics = new SourceMetrics('busy', 'opcua');
+    const source = new OpcuaSource(
+      {
+        id: 'busy',
+        endpoint: busy.endpoint,
+        items: [{ tagId: 1, nodeId: `ns=1;s=${NAMES[0]}` }],
+        pkiDir: join(PKI, 'client'),
+        acceptUnknownCertificates: true,
+        reconnectInitialMs: 100,
+        reconnectMaxMs: 500,
+      },
+      () => {},
+      metrics,
+      logger,
+    );
+    try {
+      await holder.connect(busy.endpoint);
+      const held = await holder.createSession();
+      const started = source.start().then(() => 'subscribed' as const);
+      for (let i = 0; i < 100 && metrics.snapshot().lastError === null; i++) await sleep(100);
+      expect(metrics.snapshot().lastError).toContain('connect');
+      await held.close();
+      await holder.disconnect();
+      expect(await Promise.race([started, sleep(20_000).then(() => 'still refused' as const)])).toBe(
+        'subscribed',
+      );
+      expect(metrics.state).toBe('connected');
+    } finally {
+      await source.stop();
+      await holder.disconnect().catch(() => {});
+      await busy.shutdown();
+    }
+  }, 60_000);
 });
 
 describe('OPC UA ingest while the database stops and restarts', () => {

@@ -67,14 +67,14 @@ describe('CSV drop folder', () => {
 // Issue 18 item 13: a file whose last line has no line end was read while its writer paused mid-line ("90" of "90.4").
 describe('CSV drop folder: a last line without a line end', () => {
   it('holds the file back until it grows or settles; a file renamed from *.part is read at once', async () => {
-    const folder = join(dir, 'drop-c');
-    await mkdir(folder);
+    const folder = join(dir, 'drop-db');
+    await mkdir(folder, { recursive: true });
     const watcher = new CsvWatcher({
       pool: db.pool,
       source: 'drop-c',
       tags: await loadTagLookup(db.pool, 'demo'),
       folder,
-      metrics: new SourceMetrics('drop-c', 'csv'),
+      metrics: new SourceMetrics('drop-db', 'csv'),
       logger,
     });
     const values = async () =>
@@ -197,6 +197,39 @@ describe('startIngest', () => {
       );
       expect(pushed.rows[0]!.n).toBe(1); // a re-sent batch is stored once
       await app.close();
+    } finally {
+      await service.stop();
+    }
+  });
+
+  it('reads CSV times without an offset in the site zone when the sources come from the database', async () => {
+    const folder = join(dir, 'drop-db');
+    await mkdir(folder, { recursive: true });
+    // As `plant load` leaves it: the source in the sources table, the zone on its site (seeded Europe/Berlin).
+    await db.pool.query(
+      `INSERT INTO sources (site_id, slug, kind, spec)
+       SELECT id, 'drop-db', 'csv', $1::jsonb FROM sites WHERE slug = 'demo'`,
+      [JSON.stringify({ kind: 'csv', id: 'drop-db', folder, layout: 'long' })],
+    );
+    const service = await startIngest({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger,
+      dataDir: join(dir, 'data-db'),
+      csv: { 'drop-db': { pollMs: 100 } },
+    });
+    try {
+      const time = async () =>
+        (
+          await db.pool.query<{ time: Date }>(
+            `SELECT s.time FROM samples s JOIN tags t ON t.id = s.tag_id WHERE t.name = 'ST1.FI-100' AND s.time::date = '2026-02-03'`,
+          )
+        ).rows.map((x) => x.time.toISOString());
+      await writeFile(join(folder, 'long.csv'), 'tag,time,value\nST1.FI-100,2026-02-03 10:00:00,12\n');
+      for (let i = 0; i < 100 && (await time()).length === 0; i++)
+        await new Promise((r) => setTimeout(r, 100));
+      // 10:00 CET is 09:00Z (Europe/Berlin, winter: UTC+1, IANA tz database).
+      expect(await time(), JSON.stringify(service.metrics())).toEqual(['2026-02-03T09:00:00.000Z']);
     } finally {
       await service.stop();
     }

@@ -49,11 +49,25 @@ export interface IngestService {
   stop(): Promise<void>;
 }
 
-async function sourcesFromDatabase(pool: pg.Pool): Promise<Source[]> {
-  const r = await pool.query<{ spec: Source }>(
-    'SELECT spec FROM sources WHERE retired_at IS NULL ORDER BY id',
+/** A source with the time zone of its site (what CSV times without an offset are read in). */
+interface SiteSource {
+  readonly source: Source;
+  readonly siteZone: string;
+}
+
+async function sourcesFromDatabase(pool: pg.Pool): Promise<SiteSource[]> {
+  const r = await pool.query<{ spec: Source; time_zone: string }>(
+    `SELECT s.spec, si.time_zone FROM sources s JOIN sites si ON si.id = s.site_id
+     WHERE s.retired_at IS NULL ORDER BY s.id`,
   );
-  return r.rows.map((row) => row.spec);
+  return r.rows.map((row) => ({ source: row.spec, siteZone: row.time_zone }));
+}
+
+/** The plant file's sources when one is given, else the sources table (as `plant load` left it). */
+async function sourcesOf(options: StartIngestOptions): Promise<SiteSource[]> {
+  const { plant } = options;
+  if (plant === undefined) return sourcesFromDatabase(options.pool);
+  return plant.sources.map((source) => ({ source, siteZone: plant.site.timeZone }));
 }
 
 export async function startIngest(options: StartIngestOptions): Promise<IngestService> {
@@ -69,17 +83,17 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
       return tags.size;
     },
   };
-  const sources = options.plant?.sources ?? (await sourcesFromDatabase(pool));
+  const sources = await sourcesOf(options);
   const sink = options.sink ?? new CommittedSink(pool);
   const httpMetrics = new SourceMetrics('http', 'http', clock);
   httpMetrics.state = 'running';
   const all: SourceMetrics[] = [httpMetrics];
   const stops: (() => Promise<void>)[] = [];
   const ctx: SourceContext = { options, tags, liveTags, sink, clock, log };
-  for (const source of sources) {
+  for (const { source, siteZone } of sources) {
     const started =
       source.kind === 'csv'
-        ? startCsvSource(source, ctx)
+        ? startCsvSource(source, siteZone, ctx)
         : source.kind === 'opcua'
           ? await startOpcuaSource(source, ctx)
           : undefined;
@@ -87,7 +101,7 @@ export async function startIngest(options: StartIngestOptions): Promise<IngestSe
     all.push(started.metrics);
     stops.push(started.stop);
   }
-  log.info({ sources: sources.map((s) => s.id) }, 'ingest started');
+  log.info({ sources: sources.map((s) => s.source.id) }, 'ingest started');
 
   const metrics = () => all.map((m) => m.snapshot());
   return {

@@ -53,14 +53,17 @@ export interface StartedSource {
 type CsvSource = Extract<Source, { kind: 'csv' }>;
 type OpcuaPlantSource = Extract<Source, { kind: 'opcua' }>;
 
-/** The plant file's format settings, then any given in code (tests, tools) on top, checked. */
-function csvFormatFor(source: CsvSource, options: SourceOptions, extras: CsvFormatInput): CsvFormat {
+/**
+ * The plant file's format settings, then any given in code (tests, tools) on top, checked. Times
+ * without an offset are read in the source's own zone, else its site's (from the plant file or the
+ * sites table, whichever the source came from).
+ */
+function csvFormatFor(source: CsvSource, siteZone: string, extras: CsvFormatInput): CsvFormat {
   const fromPlant = Object.fromEntries(
     (['delimiter', 'decimalComma', 'aliases', 'unitsRow', 'timeFormats', 'ambiguousTime'] as const)
       .filter((key) => source[key] !== undefined)
       .map((key) => [key, source[key]]),
   );
-  const siteZone = options.plant?.site.timeZone ?? 'UTC';
   const format = csvFormatSchema.safeParse({
     layout: source.layout,
     timeZone: source.timeZone ?? siteZone,
@@ -72,9 +75,9 @@ function csvFormatFor(source: CsvSource, options: SourceOptions, extras: CsvForm
   throw new IngestError('INGEST_BAD_OPTIONS', `CSV source ${source.id}: ${problems}`, { source: source.id });
 }
 
-export function startCsvSource(source: CsvSource, ctx: SourceContext): StartedSource {
+export function startCsvSource(source: CsvSource, siteZone: string, ctx: SourceContext): StartedSource {
   const { pollMs, ...extras } = ctx.options.csv?.[source.id] ?? {};
-  const format = csvFormatFor(source, ctx.options, extras);
+  const format = csvFormatFor(source, siteZone, extras);
   const metrics = new SourceMetrics(source.id, 'csv', ctx.clock);
   const watcher = new CsvWatcher({
     pool: ctx.options.pool,

@@ -9,7 +9,7 @@ import { randomUUID } from 'node:crypto';
 import cron from 'node-cron';
 import pg from 'pg';
 import type { Logger } from 'pino';
-import { type AnalysisJobsConfig, analysisJobBodies } from './alerts/bodies.js';
+import { type AnalysisJobsConfig, analysisJobBodies, ensureTargetsOfConfig } from './alerts/bodies.js';
 import { type ComputeJobOptions, runComputeOnce } from './compute/job.js';
 import { type PackJobOptions, runPackOnce } from './pack/job.js';
 
@@ -185,6 +185,12 @@ export async function startJobs(deps: JobsDeps): Promise<JobsService> {
   const locks = new LockConnections(deps.databaseUrl, log);
   const running = new Set<Promise<unknown>>();
   let stopped = false;
+  // Before any alert can be raised here; when the database is not there yet, the first
+  // notifications tick makes them instead.
+  if (deps.jobs?.notifications === undefined)
+    await ensureTargetsOfConfig(deps.pool, deps.config).catch((err: unknown) =>
+      log.warn({ err }, 'configured notification targets not made at start; the notifications tick will'),
+    );
 
   const tick = async (job: JobName, tickMs: number): Promise<TickOutcome> => {
     const body = bodies[job];

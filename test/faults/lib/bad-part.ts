@@ -2,23 +2,16 @@
 import { checkCsv, feedCsv, slowestFile } from './bad-csv.js';
 import { runBadPush } from './bad-push.js';
 import type { MutationKind } from './csv-mutants.js';
-import type { PushKind } from './push-mutants.js';
 import type { Random } from './random.js';
 import { table, type Verdict } from './report.js';
 import type { World } from './world.js';
 
-/** Defects issue 18 lists, by the mutation that shows them (fixed elsewhere, reported as known). */
+/**
+ * Still failing, reported to the lead: after the settling time (300 s) a file is taken as complete,
+ * so a cut last line that still parses ("90" of "90.4") is stored short (issue 18 #13 says never).
+ */
 const KNOWN_CSV: Partial<Record<MutationKind, string>> = {
-  'CR only': 'issue 18 #12',
-  truncated: 'issue 18 #13',
-  // Found by this suite, not in issue 18; reported to the lead (DEVELOPERS.md, "Fault suite").
-  'repeated DST hour': 'suite finding F1: CSV sources read from the database take local times as UTC',
-  empty: "suite finding F2: a second identical refused file erases the first one's quarantine entry",
-};
-const KNOWN_PUSH: Partial<Record<PushKind, string>> = {
-  'far future time': 'issue 18 #8',
-  'far past time': 'issue 18 #8',
-  'duplicate items': 'issue 18 #9',
+  truncated: 'issue 18 #13, a settled file: its cut last line is stored',
 };
 
 export async function badPart(
@@ -142,7 +135,6 @@ export async function badPart(
         target: `push ${kind}: bad items rejected per item, good ones stored once, honest count`,
         ok: false,
         detail: `${k.wrongStatus} wrong status, ${k.rejectedWrong} wrong rejections, ${k.missing} good items missing, ${k.altered} altered, ${k.acceptedOvercount} overcounted`,
-        known: KNOWN_PUSH[kind],
       });
   }
   if (verdicts.every((v) => v.ok))

@@ -60,7 +60,7 @@ export async function faultPart(
   );
   const run = await runFaultLanes(world, random, plan, say, short ? 45_000 : 1_800_000);
   const quiet = await waitQuiet(world, short ? 60_000 : 300_000);
-  const { routes, note } = await checkFaultRun(world, run.faults, world.firstHealthyAt);
+  const { routes, note } = await checkFaultRun(world, run.faults);
   const kinds = new Map<FaultKind, number>();
   for (const f of run.faults) kinds.set(f.kind, (kinds.get(f.kind) ?? 0) + 1);
   say('\nFaults injected, by kind');

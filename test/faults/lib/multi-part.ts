@@ -228,8 +228,6 @@ export async function multiPart(
       target: `${r.processes} processes: an alert event right after start is notified`,
       ok: r.earlyNotified,
       detail: r.earlyNotified ? 'sent' : 'never sent',
-      known:
-        'suite finding F3: the configured webhook target is created by the first notifications tick, not at start',
     },
   ]);
   return { verdicts, figures: { rounds: rounds.length } };

@@ -15,6 +15,25 @@ export interface UaServer {
   pause(): void;
 }
 
+type Server = InstanceType<Awaited<ReturnType<typeof loadNodeOpcua>>['OPCUAServer']>;
+
+/**
+ * A value set now reaches a client: one session is active on an open channel and has monitored
+ * items. A killed process's session stays on the server until its timeout, but its channel is
+ * closed with the socket, so it does not count.
+ */
+function listened(server: Server): boolean {
+  return server.engine
+    .getSessions()
+    .some(
+      (session) =>
+        session.status === 'active' &&
+        session.channel?.isOpened === true &&
+        !session.channel.aborted &&
+        session.publishEngine.subscriptions.some((sub) => sub.monitoredItemCount > 0),
+    );
+}
+
 export async function createUaServer(options: {
   port: number;
   pkiDir: string;
@@ -63,6 +82,7 @@ export async function createUaServer(options: {
         // Source times strictly increase (whole ms), so (tag, time) names one value.
         const now = Math.max(Date.now(), lastTime + 1);
         lastTime = now;
+        const heard = listened(s);
         variables.forEach((v, i) => {
           const value = options.value();
           v.setValueFromSource(
@@ -70,7 +90,7 @@ export async function createUaServer(options: {
             StatusCodes.Good,
             new Date(now),
           );
-          options.sent.add({ tag: options.tags[i] ?? '', time: now, value, via: 'opcua' });
+          options.sent.add({ tag: options.tags[i] ?? '', time: now, value, via: 'opcua', listened: heard });
         });
       };
       // The first value is set (and logged) before any client can read the placeholder.

@@ -12,6 +12,8 @@ export interface SentValue {
   readonly time: number;
   readonly value: number;
   readonly via: Via;
+  /** OPC UA only: a live client (open channel, active session) had monitored items when it was set. */
+  readonly listened?: boolean;
 }
 
 export class SentLog {

@@ -81,6 +81,8 @@ export async function createWorld(random: Random, uaPeriodMs: number): Promise<W
       ISENTROPE_ADMIN_PASSWORD: ADMIN_PASSWORD,
       LOG_LEVEL: 'info',
       ISENTROPE_STOP_TIMEOUT: '5',
+      // The suite plays the TLS proxy in one check (the session cookie's Secure flag behind TLS).
+      ISENTROPE_TRUST_PROXY: '127.0.0.1',
     };
     const plantPath = join(dir, 'plant.json');
     await writePlantFile(plantPath, { csvFolder, badFolder, opcuaEndpoint: ua.endpoint });

@@ -23,7 +23,8 @@ export type FileClaim =
 
 /**
  * Records the file by checksum. 'done': already stored; 'retry': left 'processing' or 'failed'
- * before, so its quarantine rows are cleared and it is read again from the start.
+ * before, so it is read again from the start: its row entries in quarantine are cleared (the
+ * read writes them again), but the entries of earlier drops refused whole stay, one per drop.
  */
 export async function claimFile(
   pool: pg.Pool,
@@ -46,7 +47,10 @@ export async function claimFile(
       path: file.path,
     });
   if (row.status === 'done') return { kind: 'done', fileId: row.id };
-  await pool.query('DELETE FROM quarantine WHERE file_id = $1', [row.id]);
+  await pool.query(
+    `DELETE FROM quarantine WHERE file_id = $1 AND reason NOT LIKE 'file-rejected:%' AND reason NOT LIKE 'duplicate-file:%'`,
+    [row.id],
+  );
   await pool.query(
     `UPDATE ingested_files SET status = 'processing', path = $2, error = NULL, finished_at = NULL WHERE id = $1`,
     [row.id, file.path],

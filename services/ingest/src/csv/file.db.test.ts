@@ -121,7 +121,7 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
       [
         null,
         null,
-        `file-rejected: the file is empty; nothing stored, moved to ${join(dir, 'rejected', 'empty.csv')}`,
+        `file-rejected: ${join(dir, 'empty.csv')}: the file is empty; nothing stored, moved to ${join(dir, 'rejected', 'empty.csv')}`,
       ],
     ]);
     // bom-only.csv: distinct bytes from empty.csv, so a distinct checksum.
@@ -133,6 +133,26 @@ describe('CSV corpus of bad files: no crash, every bad row named', () => {
     expect((await quarantineOf(h.fileId)).map((q) => [q.line, q.reason.split(':')[0], q.raw])).toEqual([
       [1, 'no-data', 'time,ST1.PI-100,ST1.TI-100'],
     ]);
+  });
+
+  it('each drop of the same refused content leaves its own quarantine entry naming its file', async () => {
+    await writeFile(join(dir, 'again-1.csv'), '');
+    await writeFile(join(dir, 'again-2.csv'), '');
+    const first = await ingest('again-1.csv');
+    const second = await ingest('again-2.csv');
+    expect([first.status, second.status]).toEqual(['rejected', 'rejected']);
+    // One ingested_files record per content (the checksum is unique), one entry per drop.
+    expect(second.fileId).toBe(first.fileId);
+    // empty.csv (the test before) has this content too: its entry stays, and one more per drop.
+    const all = (await quarantineOf(first.fileId)).map((q) => q.reason);
+    expect(all).toHaveLength(3);
+    const reasons = all.filter((r) => r.includes('again-'));
+    expect(reasons).toHaveLength(2);
+    expect(reasons[0]).toContain(join(dir, 'again-1.csv'));
+    expect(reasons[1]).toContain(join(dir, 'again-2.csv'));
+    expect(reasons.every((r) => r.startsWith('file-rejected: ') && r.includes('the file is empty'))).toBe(
+      true,
+    );
   });
 
   it('values beyond the storable magnitude are quarantined; the rows beside them are stored, the file is done', async () => {

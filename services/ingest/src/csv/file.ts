@@ -5,8 +5,9 @@
  *
  * Exactly once: the file's SHA-256 is unique in ingested_files. A file already 'done' is
  * not read again. A file left 'processing' (the process died) or 'failed' is read again
- * from the start: its quarantine rows are replaced and its samples, written again, add
- * nothing (the store keys on (tag_id, time)).
+ * from the start: its row entries in quarantine are replaced and its samples, written again, add
+ * nothing (the store keys on (tag_id, time)). Each drop refused whole keeps its own entry, naming
+ * the file dropped.
  *
  * Corrected files: the first stored value of a (tag, time) is kept. A row repeating it exactly
  * is counted as a duplicate; a row with another value is refused and quarantined on its own
@@ -151,7 +152,8 @@ async function refuse(
       line: typeof line === 'number' ? line : null,
       column: null,
       code: 'file-rejected',
-      reason: `file-rejected: ${error.message}; nothing stored${movedTo === null ? '' : `, moved to ${movedTo}`}`,
+      // The path names this drop: the record keeps only the last path of the content.
+      reason: `file-rejected: ${job.path}: ${error.message}; nothing stored${movedTo === null ? '' : `, moved to ${movedTo}`}`,
       raw: null,
     },
   ]);

@@ -31,6 +31,8 @@ export interface PlantServerOptions {
   /** Every n-th change of the first variable is Uncertain, every m-th Bad (0 = never). */
   readonly uncertainEvery?: number;
   readonly badEvery?: number;
+  /** Sessions the server takes at once (default 10; a PLC may take one or two). */
+  readonly maxSessions?: number;
 }
 
 type NodeOpcua = Awaited<ReturnType<typeof loadNodeOpcua>>;
@@ -47,8 +49,8 @@ function newServer(opcua: NodeOpcua, options: PlantServerOptions) {
       rootFolder: `${options.pkiDir}/user`,
       automaticallyAcceptUnknownCertificate: true,
     }),
-    maxAllowedSessionNumber: 10,
     serverCapabilities: {
+      maxSessions: options.maxSessions ?? 10,
       maxMonitoredItems: 100_000,
       maxMonitoredItemsPerSubscription: 100_000,
       operationLimits: { maxMonitoredItemsPerCall: 100_000 },

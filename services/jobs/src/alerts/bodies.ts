@@ -39,6 +39,15 @@ export interface AnalysisJobsConfig {
 
 export type JobBody = (tickMs: number) => Promise<unknown>;
 
+/**
+ * The configured webhook and email targets as notifications rows, made at start: the outbox
+ * trigger fans an alert event out only to targets that exist when it is raised, so one raised
+ * before the first notifications tick would otherwise reach nobody. The tick ensures them again.
+ */
+export function ensureTargetsOfConfig(pool: pg.Pool, config: AnalysisJobsConfig): Promise<void> {
+  return ensureConfiguredTargets(pool, { webhookUrl: config.webhookUrl, emailTo: config.smtp?.to });
+}
+
 export function analysisJobBodies(deps: {
   readonly pool: pg.Pool;
   readonly config: AnalysisJobsConfig;
@@ -72,7 +81,7 @@ export function analysisJobBodies(deps: {
     },
     notifications: async (tickMs) => {
       if (!targetsReady) {
-        await ensureConfiguredTargets(pool, { webhookUrl: config.webhookUrl, emailTo: config.smtp?.to });
+        await ensureTargetsOfConfig(pool, config);
         targetsReady = true;
       }
       if (mailer === undefined && config.smtp !== undefined) {

@@ -189,4 +189,36 @@ describe('notifications', () => {
     expect(d.rows[0]).toMatchObject({ status: 'failed', attempts: 3 });
     expect(d.rows[0]?.last_error).toMatch(/^attempt 3: request failed/);
   });
+
+  it('the configured webhook is a target from start: an event raised before the first notifications tick is delivered once', async () => {
+    await db.pool.query(`UPDATE notifications SET enabled = false`);
+    const jobs = await startJobs({
+      pool: db.pool,
+      databaseUrl: db.url,
+      logger: pino({ level: 'silent' }),
+      manual: true,
+      config: { webhookUrl: url, webhookSecret: SECRET },
+    });
+    try {
+      const alert = await db.pool.query<{ alert_id: number }>(
+        `SELECT alert_id::int FROM alert_events ORDER BY id LIMIT 1`,
+      );
+      const at = T0 + 7 * H;
+      // An operator's action before any notifications tick has run (invented).
+      const ev = await db.pool.query<{ id: number }>(
+        `INSERT INTO alert_events (alert_id, time, from_state, to_state, actor, note)
+         VALUES ($1, $2, 'normal', 'active_unacknowledged', 'op (invented)', 'early') RETURNING id::int`,
+        [alert.rows[0]?.alert_id, new Date(at)],
+      );
+      const before = received.length;
+      expect(await jobs.runTick('notifications', at + 10_000)).toBe('ran');
+      expect(await jobs.runTick('notifications', at + 20_000)).toBe('ran');
+      const got = received
+        .slice(before)
+        .map((r) => (JSON.parse(r.body) as { event: { id: number } }).event.id);
+      expect(got).toEqual([ev.rows[0]?.id]);
+    } finally {
+      await jobs.stop();
+    }
+  });
 });
